@@ -1,0 +1,146 @@
+package main
+
+import (
+	"fmt"
+	"io"
+
+	"github.com/spf13/cobra"
+
+	"github.com/sweep-cfd/sweep/internal/plan"
+	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/ui"
+)
+
+type planOptions struct {
+	dryRun bool
+	json   bool
+}
+
+func newPlanCmd() *cobra.Command {
+	var opts planOptions
+	cmd := &cobra.Command{
+		Use:   "plan [DIR]",
+		Short: "Check the recipe, make the variants and render their cases",
+		Long: `plan checks DIR/study.toml, generates the design's points, gives each new
+point a variant (a UUID and a short label such as v007), renders its case
+into DIR/variants/<label>/ and queues its stages. Planning again after
+editing the design adds the new points and keeps every planned variant and
+its results.`,
+		Args: maxOneDir,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runPlan(cmd, opts, studyDir(args))
+		},
+	}
+	cmd.Flags().BoolVar(&opts.dryRun, "dry-run", false, "print the variants without writing anything")
+	cmd.Flags().BoolVar(&opts.json, "json", false, "print the result as JSON")
+	return cmd
+}
+
+func runPlan(cmd *cobra.Command, opts planOptions, dir string) error {
+	r, err := loadRecipe(dir)
+	if err != nil {
+		return err
+	}
+	if !opts.dryRun {
+		lock, err := store.Acquire(dir, "plan")
+		if err != nil {
+			return err
+		}
+		defer lock.Release()
+	}
+	res, err := plan.Plan(cmd.Context(), r, plan.Options{DryRun: opts.dryRun})
+	if err != nil {
+		return err
+	}
+	out := cmd.OutOrStdout()
+	if opts.json {
+		return ui.JSON(out, planJSON(r, res, opts.dryRun))
+	}
+	printPlan(out, r, res, opts.dryRun)
+	return nil
+}
+
+type planRowJSON struct {
+	ID     string         `json:"id"`
+	Label  string         `json:"label"`
+	Name   string         `json:"name,omitempty"`
+	Params map[string]any `json:"params"`
+	New    bool           `json:"new"`
+}
+
+func planJSON(r *recipe.Recipe, res *plan.Result, dry bool) any {
+	rows := make([]planRowJSON, len(res.Rows))
+	for i, row := range res.Rows {
+		rows[i] = planRowJSON{ID: row.ID, Label: row.Label, Name: row.Name, Params: paramMap(r, row.Values), New: row.New}
+	}
+	return map[string]any{"dry_run": dry, "added": res.Added, "kept": res.Kept, "duplicates": res.Duplicates,
+		"retired": res.Retired, "variants": rows}
+}
+
+func paramMap(r *recipe.Recipe, vals []recipe.Value) map[string]any {
+	m := make(map[string]any, len(vals))
+	for i, p := range r.Params {
+		if vals[i].IsText() {
+			m[p.Name] = vals[i].Text
+		} else {
+			m[p.Name] = vals[i].Num
+		}
+	}
+	return m
+}
+
+func printPlan(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool) {
+	header := []string{"variant", "name"}
+	for _, p := range r.Params {
+		h := p.Name
+		if p.Unit != "" {
+			h += " [" + p.Unit + "]"
+		}
+		header = append(header, h)
+	}
+	header = append(header, "")
+	rows := [][]string{header}
+	for _, row := range res.Rows {
+		label := row.Label
+		if dry && row.New {
+			label = "(new)"
+		}
+		line := []string{label, dash(row.Name)}
+		for _, v := range row.Values {
+			line = append(line, v.String())
+		}
+		if row.New {
+			line = append(line, "new")
+		} else {
+			line = append(line, "kept")
+		}
+		rows = append(rows, line)
+	}
+	ui.Table(w, rows)
+	verb := "planned"
+	if dry {
+		verb = "would plan (dry run, nothing written)"
+	}
+	fmt.Fprintf(w, "\n%s %d new variants; %d already planned kept", verb, res.Added, res.Kept)
+	if res.Duplicates > 0 {
+		fmt.Fprintf(w, "; %d duplicate design points planned once", res.Duplicates)
+	}
+	if res.Retired > 0 {
+		fmt.Fprintf(w, "; %d earlier variants are no longer in the design (kept, with their results)", res.Retired)
+	}
+	if res.NewJobs > 0 {
+		fmt.Fprintf(w, "; %d new stage jobs for existing variants", res.NewJobs)
+	}
+	fmt.Fprintln(w)
+	if !dry && res.Added+res.NewJobs > 0 {
+		fmt.Fprintf(w, "next: sweep run %s\n", r.Dir)
+	}
+}
+
+func dash(s string) string {
+	if s == "" {
+		return "-"
+	}
+	return s
+}

@@ -1,0 +1,82 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/sweep-cfd/sweep/internal/runner"
+	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/ui"
+)
+
+type statusOptions struct {
+	json bool
+}
+
+func newStatusCmd() *cobra.Command {
+	var opts statusOptions
+	cmd := &cobra.Command{
+		Use:   "status [DIR]",
+		Short: "Show each variant's parameters and state",
+		Long: `status prints one line per variant: its label, parameters and state
+(pending, running, done, failed), with the reason for failures. It can be
+used while a run is going on. --json prints an object with "counts" (done,
+failed, pending, running) and "variants" (id, label, state, params, ...).`,
+		Args: maxOneDir,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runStatus(cmd.OutOrStdout(), opts, studyDir(args))
+		},
+	}
+	cmd.Flags().BoolVar(&opts.json, "json", false, "print the status as JSON")
+	return cmd
+}
+
+func runStatus(w io.Writer, opts statusOptions, dir string) error {
+	st, err := store.OpenExisting(dir, store.Options{Brief: true})
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	name := dir
+	if r, err := loadRecipe(dir); err == nil {
+		name = r.Name
+	}
+	rep, err := runner.Status(st, name)
+	if err != nil {
+		return err
+	}
+	live := store.Held(dir)
+	if opts.json {
+		return ui.JSON(w, rep)
+	}
+	header := []string{"variant"}
+	header = append(header, rep.Params...)
+	header = append(header, "state", "stage", "note")
+	rows := [][]string{header}
+	for _, v := range rep.Variants {
+		line := []string{v.Label}
+		for _, val := range v.Values {
+			line = append(line, val.String())
+		}
+		state := string(v.State)
+		if v.State == store.Running && !live {
+			state = "running?"
+		}
+		note := v.Reason
+		if v.Name != "" {
+			note = strings.TrimSpace(v.Name + "  " + note)
+		}
+		line = append(line, state, dash(v.Stage), note)
+		rows = append(rows, line)
+	}
+	ui.Table(w, rows)
+	c := rep.Counts
+	fmt.Fprintf(w, "\n%d variants: %d done, %d running, %d failed, %d pending\n", len(rep.Variants), c.Done, c.Running, c.Failed, c.Pending)
+	if c.Running > 0 && !live {
+		fmt.Fprintf(w, "no run is active: the jobs marked running? were left by a run that ended abruptly; `sweep run %s` re-queues them\n", dir)
+	}
+	return nil
+}

@@ -1,0 +1,55 @@
+// Command sweep plans, runs and analyses studies of CFD design variants.
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"os/signal"
+	"syscall"
+
+	"github.com/sweep-cfd/sweep/internal/runner"
+)
+
+func main() {
+	if runner.IsExecutor() {
+		os.Exit(runner.ExecutorMain(os.Stdin, os.Stdout))
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	cmd := newRootCmd()
+	err := cmd.ExecuteContext(ctx)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "sweep:", err)
+	}
+	stop()
+	os.Exit(exitCode(ctx, err))
+}
+
+// Exit statuses, listed in the root command's help.
+const (
+	exitOK          = 0
+	exitFailed      = 1 // the work failed: a job failed, a run or harvest could not finish
+	exitUsage       = 2 // bad usage or a bad recipe
+	exitInterrupted = 130
+)
+
+// usageError marks errors in the command line itself.
+type usageError struct{ error }
+
+func (e usageError) Unwrap() error { return e.error }
+
+func exitCode(ctx context.Context, err error) int {
+	var ue usageError
+	switch {
+	case err == nil:
+		return exitOK
+	case errors.Is(err, runner.ErrInterrupted) || errors.Is(err, context.Canceled) || ctx.Err() != nil:
+		return exitInterrupted
+	case errors.As(err, &ue) || isRecipeError(err):
+		return exitUsage
+	default:
+		return exitFailed
+	}
+}

@@ -1,0 +1,59 @@
+package main
+
+import (
+	"errors"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"github.com/sweep-cfd/sweep/internal/recipe"
+)
+
+func newRootCmd() *cobra.Command {
+	root := &cobra.Command{
+		Use:   "sweep",
+		Short: "Plan, run and compare CFD design variants",
+		Long: `sweep plans the variants of a design study, renders one case per variant
+from a base case, runs each variant's stages (mesh, solve, ...) on this
+machine's cores from a persistent queue that survives crashes, and reports
+where every variant stands.
+
+Results steer engineering decisions only after validation: check mesh and
+time-step independence, have qualified people review them, and follow the
+codes and licensed practice that apply where you work.
+
+Exit status:
+  0    success
+  1    the work failed (a job failed, a run could not finish)
+  2    bad usage or a bad recipe (the message names file:line)
+  130  interrupted (Ctrl-C or SIGTERM); running jobs were re-queued`,
+		SilenceUsage:  true,
+		SilenceErrors: true,
+	}
+	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError{err} })
+	root.AddCommand(newNewCmd(), newPlanCmd(), newRunCmd(), newStatusCmd(), newResetCmd())
+	return root
+}
+
+// studyDir returns the study directory named by the arguments (default ".").
+func studyDir(args []string) string {
+	if len(args) == 0 {
+		return "."
+	}
+	return filepath.Clean(args[0])
+}
+
+// loadRecipe reads DIR/study.toml.
+func loadRecipe(dir string) (*recipe.Recipe, error) {
+	return recipe.Load(filepath.Join(dir, recipe.FileName))
+}
+
+func isRecipeError(err error) bool { return errors.Is(err, recipe.ErrInvalid) }
+
+// maxOneDir accepts zero or one study directory.
+var maxOneDir = func(cmd *cobra.Command, args []string) error {
+	if len(args) > 1 {
+		return usageError{errors.New("give at most one study directory")}
+	}
+	return nil
+}

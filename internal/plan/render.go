@@ -1,0 +1,280 @@
+package plan
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"strings"
+	"text/template"
+	"text/template/parse"
+	"unicode/utf8"
+
+	"github.com/sweep-cfd/sweep/internal/recipe"
+)
+
+// fileAction says what happens to one template file in a variant.
+type fileAction int
+
+const (
+	doLink   fileAction = iota // hard-link (copy when the filesystem refuses)
+	doCopy                     // copy
+	doRender                   // execute as a text/template
+)
+
+// entry is one item of the template tree.
+type entry struct {
+	rel    string // slash-separated path relative to the template
+	mode   fs.FileMode
+	action fileAction
+	tmpl   *template.Template
+	target string // symlink target
+}
+
+// layout is the template tree, read and checked once per plan.
+type layout struct {
+	root    string
+	entries []entry
+}
+
+// matches reports whether a slash-separated relative path matches a
+// pattern: a pattern without '/' matches the file's name in any directory;
+// a pattern with '/' matches the whole relative path.
+func matches(pattern, rel string) bool {
+	if !strings.Contains(pattern, "/") {
+		ok, _ := filepath.Match(pattern, filepath.Base(rel))
+		return ok
+	}
+	ok, _ := filepath.Match(pattern, rel)
+	return ok
+}
+
+// readLayout walks the template, parses every rendered file and checks
+// that each placeholder names a parameter. Problems are reported with the
+// template file's path and line.
+func readLayout(r *recipe.Recipe) (*layout, error) {
+	lay := &layout{root: r.Template}
+	used := make([]bool, len(r.Render))
+	var problems []string
+	err := filepath.WalkDir(r.Template, func(path string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return err
+		}
+		rel, _ := filepath.Rel(r.Template, path)
+		if rel == "." {
+			return nil
+		}
+		rel = filepath.ToSlash(rel)
+		info, err := d.Info()
+		if err != nil {
+			return err
+		}
+		e := entry{rel: rel, mode: info.Mode()}
+		switch {
+		case d.IsDir():
+		case info.Mode()&fs.ModeSymlink != 0:
+			if e.target, err = os.Readlink(path); err != nil {
+				return err
+			}
+		case !info.Mode().IsRegular():
+			problems = append(problems, fmt.Sprintf("%s: not a regular file, directory or link; remove it from the template", path))
+			return nil
+		default:
+			for i, g := range r.Render {
+				if matches(g, rel) {
+					used[i] = true
+					e.action = doRender
+				}
+			}
+			if e.action != doRender {
+				for _, g := range r.Copy {
+					if matches(g, rel) {
+						e.action = doCopy
+					}
+				}
+			}
+			if e.action == doRender {
+				t, perr := parseTemplate(path, rel, r)
+				if perr != nil {
+					problems = append(problems, perr.Error())
+					return nil
+				}
+				e.tmpl = t
+			}
+		}
+		lay.entries = append(lay.entries, e)
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("read template %s: %w", r.Template, err)
+	}
+	for i, u := range used {
+		if !u {
+			problems = append(problems, fmt.Sprintf("%s: render pattern %q matches no file in the template %s; correct the pattern or remove it", filepath.Base(r.File), r.Render[i], r.Template))
+		}
+	}
+	if len(problems) > 0 {
+		return nil, fmt.Errorf("%w:\n%s", recipe.ErrInvalid, strings.Join(problems, "\n"))
+	}
+	return lay, nil
+}
+
+func parseTemplate(path, rel string, r *recipe.Recipe) (*template.Template, error) {
+	src, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	if !utf8.Valid(src) || bytes.IndexByte(src, 0) >= 0 {
+		return nil, fmt.Errorf("%s: matches a render pattern but is not UTF-8 text; remove it from [case] render (it will be linked as it is)", path)
+	}
+	t, err := template.New(rel).Option("missingkey=error").Parse(string(src))
+	if err != nil {
+		return nil, fmt.Errorf("%s: %s", path, strings.TrimPrefix(err.Error(), "template: "))
+	}
+	var bad []string
+	for _, tt := range t.Templates() {
+		if tt.Tree == nil {
+			continue
+		}
+		walkFields(tt.Tree.Root, func(n parse.Node, name string) {
+			if r.ParamIndex(name) < 0 {
+				loc, _ := tt.ErrorContext(n)
+				bad = append(bad, fmt.Sprintf("%s (%s): {{.%s}} names no parameter of the recipe; known: %s", path, lineOf(loc), name, paramNames(r)))
+			}
+		})
+	}
+	if bad != nil {
+		return nil, errors.New(strings.Join(bad, "\n"))
+	}
+	return t, nil
+}
+
+// lineOf turns text/template's "name:line:col" location into "line L".
+func lineOf(loc string) string {
+	parts := strings.Split(loc, ":")
+	if len(parts) >= 2 {
+		return "line " + parts[len(parts)-2]
+	}
+	return loc
+}
+
+func paramNames(r *recipe.Recipe) string {
+	names := make([]string, len(r.Params))
+	for i, p := range r.Params {
+		names[i] = p.Name
+	}
+	return strings.Join(names, ", ")
+}
+
+// walkFields calls fn for the first identifier of every field reference
+// (.name, $.name) in a template tree.
+func walkFields(n parse.Node, fn func(parse.Node, string)) {
+	switch x := n.(type) {
+	case *parse.ListNode:
+		if x == nil {
+			return
+		}
+		for _, c := range x.Nodes {
+			walkFields(c, fn)
+		}
+	case *parse.ActionNode:
+		walkFields(x.Pipe, fn)
+	case *parse.PipeNode:
+		if x == nil {
+			return
+		}
+		for _, c := range x.Cmds {
+			walkFields(c, fn)
+		}
+	case *parse.CommandNode:
+		for _, a := range x.Args {
+			walkFields(a, fn)
+		}
+	case *parse.FieldNode:
+		fn(x, x.Ident[0])
+	case *parse.VariableNode:
+		if len(x.Ident) > 1 && x.Ident[0] == "$" {
+			fn(x, x.Ident[1])
+		}
+	case *parse.ChainNode:
+		walkFields(x.Node, fn)
+	case *parse.IfNode:
+		walkBranch(&x.BranchNode, fn)
+	case *parse.RangeNode:
+		walkBranch(&x.BranchNode, fn)
+	case *parse.WithNode:
+		walkBranch(&x.BranchNode, fn)
+	case *parse.TemplateNode:
+		walkFields(x.Pipe, fn)
+	}
+}
+
+func walkBranch(b *parse.BranchNode, fn func(parse.Node, string)) {
+	walkFields(b.Pipe, fn)
+	walkFields(b.List, fn)
+	walkFields(b.ElseList, fn)
+}
+
+// render writes one variant's case into dir, which must not exist.
+func (lay *layout) render(dir string, data map[string]any) error {
+	if err := os.Mkdir(dir, 0o755); err != nil {
+		return err
+	}
+	var buf bytes.Buffer
+	for _, e := range lay.entries {
+		src := filepath.Join(lay.root, filepath.FromSlash(e.rel))
+		dst := filepath.Join(dir, filepath.FromSlash(e.rel))
+		switch {
+		case e.mode.IsDir():
+			if err := os.Mkdir(dst, e.mode.Perm()|0o700); err != nil {
+				return err
+			}
+		case e.mode&fs.ModeSymlink != 0:
+			if err := os.Symlink(e.target, dst); err != nil {
+				return err
+			}
+		case e.action == doRender:
+			buf.Reset()
+			if err := e.tmpl.Execute(&buf, data); err != nil {
+				return fmt.Errorf("render %s: %w", src, err)
+			}
+			if !utf8.Valid(buf.Bytes()) {
+				return fmt.Errorf("render %s: the result is not valid UTF-8 text", src)
+			}
+			if err := os.WriteFile(dst, buf.Bytes(), e.mode.Perm()); err != nil {
+				return err
+			}
+		case e.action == doCopy:
+			if err := copyFile(src, dst, e.mode.Perm()); err != nil {
+				return err
+			}
+		default:
+			if err := os.Link(src, dst); err != nil {
+				if err := copyFile(src, dst, e.mode.Perm()); err != nil {
+					return err
+				}
+			}
+		}
+	}
+	return nil
+}
+
+func copyFile(src, dst string, perm fs.FileMode) error {
+	in, err := os.Open(src)
+	if err != nil {
+		return err
+	}
+	defer in.Close()
+	out, err := os.OpenFile(dst, os.O_WRONLY|os.O_CREATE|os.O_EXCL, perm)
+	if err != nil {
+		return err
+	}
+	if _, err := io.Copy(out, in); err != nil {
+		out.Close()
+		return err
+	}
+	return out.Close()
+}

@@ -1,0 +1,131 @@
+package recipe
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+)
+
+// EnvPrefix starts the name of every environment variable the program sets
+// for a stage.
+const EnvPrefix = "SWEEP_"
+
+// SplitCommand splits a command line into arguments the way a person reads
+// it, without a shell: words are separated by blanks; single quotes keep
+// everything literally; double quotes keep blanks and allow \" and \\;
+// a backslash outside quotes keeps the next character. Nothing is expanded:
+// $, `, ;, | and the like are ordinary characters.
+func SplitCommand(s string) ([]string, error) {
+	var args []string
+	var cur strings.Builder
+	inWord := false
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c == ' ' || c == '\t' || c == '\n' || c == '\r':
+			if inWord {
+				args = append(args, cur.String())
+				cur.Reset()
+				inWord = false
+			}
+		case c == '\'':
+			j := strings.IndexByte(s[i+1:], '\'')
+			if j < 0 {
+				return nil, fmt.Errorf("command %q has an unclosed single quote", s)
+			}
+			cur.WriteString(s[i+1 : i+1+j])
+			i += j + 1
+			inWord = true
+		case c == '"':
+			i++
+			for ; i < len(s) && s[i] != '"'; i++ {
+				if s[i] == '\\' && i+1 < len(s) && (s[i+1] == '"' || s[i+1] == '\\') {
+					i++
+				}
+				cur.WriteByte(s[i])
+			}
+			if i >= len(s) {
+				return nil, fmt.Errorf("command %q has an unclosed double quote", s)
+			}
+			inWord = true
+		case c == '\\':
+			if i+1 >= len(s) {
+				return nil, fmt.Errorf("command %q ends with a lone backslash", s)
+			}
+			i++
+			cur.WriteByte(s[i])
+			inWord = true
+		default:
+			cur.WriteByte(c)
+			inWord = true
+		}
+	}
+	if inWord {
+		args = append(args, cur.String())
+	}
+	if len(args) == 0 {
+		return nil, errors.New("the command is empty")
+	}
+	return args, nil
+}
+
+// CheckCommands verifies that every stage's program can be found: a
+// program named with a slash must exist in the template case (relative to
+// the stage's directory) or on disk; a bare name must be on PATH. It
+// returns the located problems, or nil.
+func (r *Recipe) CheckCommands() error {
+	pr := &problems{file: filepath.Base(r.File)}
+	for _, s := range r.Stages {
+		prog := s.Argv[0]
+		if strings.ContainsRune(prog, '/') {
+			p := prog
+			if !filepath.IsAbs(p) {
+				p = filepath.Join(r.Template, s.Dir, p)
+			}
+			st, err := os.Stat(p)
+			switch {
+			case err != nil:
+				pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
+					Msg: fmt.Sprintf("stage %q: program %q not found (looked for %s); add it to the template case or correct run", s.Name, prog, p)})
+			case st.IsDir() || st.Mode()&0o111 == 0:
+				pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
+					Msg: fmt.Sprintf("stage %q: %s is not an executable file; chmod +x it, or run it through its interpreter (for example run = \"sh %s\")", s.Name, p, prog)})
+			}
+			continue
+		}
+		if _, err := exec.LookPath(prog); err != nil {
+			pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
+				Msg: fmt.Sprintf("stage %q: program %q is not on PATH; install it, or give its path", s.Name, prog)})
+		}
+	}
+	if len(pr.list) > 0 {
+		return pr.list
+	}
+	return nil
+}
+
+// Env returns the environment variables the program sets for a stage of a
+// variant, as NAME=value strings: every parameter as SWEEP_PARAM_<NAME>
+// (upper case), then the variant's id, label and directory, the stage's
+// name and core count, and the stage's own constants.
+func (r *Recipe) Env(values []Value, id, label, variantDir string, s Stage) []string {
+	env := make([]string, 0, len(values)+8+len(s.Env))
+	for i, p := range r.Params {
+		env = append(env, EnvPrefix+"PARAM_"+strings.ToUpper(p.Name)+"="+values[i].String())
+	}
+	env = append(env,
+		EnvPrefix+"VARIANT_ID="+id,
+		EnvPrefix+"VARIANT_LABEL="+label,
+		EnvPrefix+"VARIANT_DIR="+variantDir,
+		EnvPrefix+"STUDY_DIR="+r.Dir,
+		EnvPrefix+"STAGE="+s.Name,
+		fmt.Sprintf("%sCORES=%d", EnvPrefix, s.Cores),
+	)
+	for k, v := range s.Env {
+		env = append(env, k+"="+v)
+	}
+	return env
+}

@@ -1,0 +1,483 @@
+package recipe
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"regexp"
+	"sort"
+	"strings"
+	"time"
+	"unicode/utf8"
+
+	"github.com/pelletier/go-toml/v2"
+)
+
+// rawRecipe is the recipe file's shape. Unknown keys are refused.
+type rawRecipe struct {
+	Name        string     `toml:"name"`
+	Description string     `toml:"description"`
+	Case        rawCase    `toml:"case"`
+	Params      []rawParam `toml:"param"`
+	Design      rawDesign  `toml:"design"`
+	Stages      []rawStage `toml:"stage"`
+}
+
+type rawCase struct {
+	Template string   `toml:"template"`
+	Render   []string `toml:"render"`
+	Copy     []string `toml:"copy"`
+}
+
+type rawParam struct {
+	Name    string    `toml:"name"`
+	Min     *float64  `toml:"min"`
+	Max     *float64  `toml:"max"`
+	Log     bool      `toml:"log"`
+	Steps   int       `toml:"steps"`
+	Unit    string    `toml:"unit"`
+	Values  []float64 `toml:"values"`
+	Choices []string  `toml:"choices"`
+}
+
+type rawDesign struct {
+	Method string           `toml:"method"`
+	Steps  int              `toml:"steps"`
+	Points []map[string]any `toml:"points"`
+	File   string           `toml:"file"`
+	Seed   uint64           `toml:"seed"`
+	Count  int              `toml:"count"`
+}
+
+type rawStage struct {
+	Name    string            `toml:"name"`
+	Run     string            `toml:"run"`
+	Shell   bool              `toml:"shell"`
+	Cores   *int              `toml:"cores"`
+	Timeout string            `toml:"timeout"`
+	Retries int               `toml:"retries"`
+	Dir     string            `toml:"dir"`
+	Env     map[string]string `toml:"env"`
+}
+
+var identRE = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9_]*$`)
+
+// DesignMethods lists the design methods a recipe may name, with a check of
+// the method's own settings. Package plan registers the methods it can
+// generate; Load refuses any other name.
+var DesignMethods = map[string]bool{"factorial": true, "table": true}
+
+// Load reads and checks the recipe at path. Every problem found is
+// reported, each with file:line, in one Errors value (which matches
+// ErrInvalid); an unreadable file gives the os error.
+func Load(path string) (*Recipe, error) {
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return nil, err
+	}
+	data, err := os.ReadFile(abs)
+	if err != nil {
+		if errors.Is(err, os.ErrNotExist) {
+			return nil, fmt.Errorf("no recipe at %s: write one, or start from `sweep new DIR`: %w", abs, err)
+		}
+		return nil, fmt.Errorf("read recipe: %w", err)
+	}
+	return Parse(abs, data)
+}
+
+// Parse checks recipe text as if read from the file at path (which must be
+// absolute; the study directory is its directory).
+func Parse(path string, data []byte) (*Recipe, error) {
+	rel := filepath.Base(path)
+	pr := &problems{file: rel, lines: keyLines(data)}
+	if !utf8.Valid(data) {
+		pr.at("", "the recipe is not valid UTF-8 text; save it as UTF-8")
+		return nil, pr.list
+	}
+	var raw rawRecipe
+	dec := toml.NewDecoder(bytes.NewReader(data)).DisallowUnknownFields()
+	if err := dec.Decode(&raw); err != nil {
+		decodeProblems(pr, err)
+		return nil, pr.list
+	}
+	r := &Recipe{File: path, Dir: filepath.Dir(path), Name: raw.Name, Description: raw.Description}
+	if r.Name == "" {
+		r.Name = filepath.Base(r.Dir)
+	}
+	checkCase(pr, r, raw.Case)
+	checkParams(pr, r, raw.Params)
+	checkDesign(pr, r, raw.Design)
+	checkStages(pr, r, raw.Stages)
+	if len(pr.list) > 0 {
+		return nil, pr.list
+	}
+	return r, nil
+}
+
+func decodeProblems(pr *problems, err error) {
+	var strict *toml.StrictMissingError
+	if errors.As(err, &strict) {
+		for _, e := range strict.Errors {
+			row, _ := e.Position()
+			key := strings.Join(e.Key(), ".")
+			pr.list = append(pr.list, &Error{File: pr.file, Line: row,
+				Msg: fmt.Sprintf("unknown key %q: check its spelling and the table it is in (see `sweep new` for a commented recipe)", key)})
+		}
+		return
+	}
+	var de *toml.DecodeError
+	if errors.As(err, &de) {
+		row, _ := de.Position()
+		pr.list = append(pr.list, &Error{File: pr.file, Line: row, Msg: "not valid TOML: " + de.Error()})
+		return
+	}
+	pr.list = append(pr.list, &Error{File: pr.file, Msg: tidyDecodeError(err.Error())})
+}
+
+func tidyDecodeError(s string) string {
+	s = strings.TrimPrefix(s, "toml: ")
+	return s + " (check the value's type: quote words, leave numbers bare)"
+}
+
+func checkCase(pr *problems, r *Recipe, c rawCase) {
+	if c.Template == "" {
+		pr.at("case", "[case] needs template = \"DIR\", the base case directory (relative to the recipe)")
+		return
+	}
+	r.Template = c.Template
+	if !filepath.IsAbs(r.Template) {
+		r.Template = filepath.Join(r.Dir, r.Template)
+	}
+	st, err := os.Stat(r.Template)
+	switch {
+	case err != nil:
+		pr.at("case.template", "template directory %q does not exist; create it or correct the path (relative to the recipe)", c.Template)
+	case !st.IsDir():
+		pr.at("case.template", "template %q is a file; it must be the base case directory", c.Template)
+	}
+	for i, g := range c.Render {
+		if err := checkGlob(g); err != nil {
+			pr.at(fmt.Sprintf("case.render[%d]", i), "render pattern %q: %v", g, err)
+		}
+	}
+	for i, g := range c.Copy {
+		if err := checkGlob(g); err != nil {
+			pr.at(fmt.Sprintf("case.copy[%d]", i), "copy pattern %q: %v", g, err)
+		}
+	}
+	r.Render, r.Copy = c.Render, c.Copy
+}
+
+func checkGlob(g string) error {
+	if g == "" {
+		return errors.New("empty pattern")
+	}
+	if filepath.IsAbs(g) || strings.HasPrefix(filepath.Clean(g), "..") {
+		return errors.New("must be relative to the template directory and stay inside it")
+	}
+	if _, err := filepath.Match(g, ""); err != nil {
+		return fmt.Errorf("bad pattern syntax: %v", err)
+	}
+	return nil
+}
+
+func checkParams(pr *problems, r *Recipe, raws []rawParam) {
+	if len(raws) == 0 {
+		pr.at("", "the recipe declares no parameter: add at least one [[param]] table")
+		return
+	}
+	seen := map[string]int{}
+	for i, rp := range raws {
+		key := fmt.Sprintf("param[%d]", i)
+		p := Param{Name: rp.Name, Unit: rp.Unit, Log: rp.Log, Steps: rp.Steps, Line: pr.line(key)}
+		switch {
+		case rp.Name == "":
+			pr.at(key, "parameter %d has no name: add name = \"...\"", i+1)
+		case !identRE.MatchString(rp.Name):
+			pr.at(key+".name", "parameter name %q must start with a letter and use only letters, digits and _ (it becomes a template field and an environment variable)", rp.Name)
+		default:
+			up := strings.ToUpper(rp.Name)
+			if j, dup := seen[up]; dup {
+				pr.at(key+".name", "parameter %q is declared twice (first as parameter %d; names differing only in case clash as environment variables)", rp.Name, j+1)
+			}
+			seen[up] = i
+		}
+		kinds := 0
+		if rp.Min != nil || rp.Max != nil {
+			kinds++
+		}
+		if rp.Values != nil {
+			kinds++
+		}
+		if rp.Choices != nil {
+			kinds++
+		}
+		if kinds != 1 {
+			pr.at(key, "parameter %q must have exactly one of: min and max (a range), values = [...] (numeric levels), choices = [...] (words)", rp.Name)
+			r.Params = append(r.Params, p)
+			continue
+		}
+		switch {
+		case rp.Min != nil || rp.Max != nil:
+			p.Kind = Range
+			if rp.Min == nil || rp.Max == nil {
+				pr.at(key, "range parameter %q needs both min and max", rp.Name)
+				break
+			}
+			p.Min, p.Max = *rp.Min, *rp.Max
+			if p.Min > p.Max {
+				pr.at(key+".max", "parameter %q has min (%g) above max (%g): swap them", rp.Name, p.Min, p.Max)
+			}
+			if p.Log && p.Min <= 0 {
+				pr.at(key+".log", "parameter %q is on a log scale, so min must be above 0 (it is %g)", rp.Name, p.Min)
+			}
+			if rp.Steps < 0 || rp.Steps == 1 {
+				pr.at(key+".steps", "parameter %q: steps must be 2 or more (it is %d)", rp.Name, rp.Steps)
+			}
+		case rp.Values != nil:
+			p.Kind = Levels
+			p.Values = rp.Values
+			if len(p.Values) == 0 {
+				pr.at(key+".values", "parameter %q has an empty values list", rp.Name)
+			}
+			if dup := firstDup(p.Values); dup >= 0 {
+				pr.at(key+".values", "parameter %q lists the value %g twice", rp.Name, p.Values[dup])
+			}
+		default:
+			p.Kind = Choice
+			p.Choices = rp.Choices
+			if len(p.Choices) == 0 {
+				pr.at(key+".choices", "parameter %q has an empty choices list", rp.Name)
+			}
+			seenC := map[string]bool{}
+			for j, c := range p.Choices {
+				if c == "" {
+					pr.at(fmt.Sprintf("%s.choices[%d]", key, j), "parameter %q has an empty choice", rp.Name)
+				}
+				if seenC[c] {
+					pr.at(fmt.Sprintf("%s.choices[%d]", key, j), "parameter %q lists the choice %q twice", rp.Name, c)
+				}
+				seenC[c] = true
+			}
+		}
+		if rp.Steps != 0 && p.Kind != Range {
+			pr.at(key+".steps", "steps applies only to min/max ranges; remove it from parameter %q", rp.Name)
+		}
+		if rp.Log && p.Kind != Range {
+			pr.at(key+".log", "log applies only to min/max ranges; remove it from parameter %q", rp.Name)
+		}
+		r.Params = append(r.Params, p)
+	}
+}
+
+func firstDup(xs []float64) int {
+	seen := map[float64]bool{}
+	for i, x := range xs {
+		if seen[x] {
+			return i
+		}
+		seen[x] = true
+	}
+	return -1
+}
+
+func checkDesign(pr *problems, r *Recipe, d rawDesign) {
+	r.Design = Design{Method: d.Method, Steps: d.Steps, Seed: d.Seed, Count: d.Count, Line: pr.line("design")}
+	if d.Method == "" {
+		methods := make([]string, 0, len(DesignMethods))
+		for m := range DesignMethods {
+			methods = append(methods, m)
+		}
+		sort.Strings(methods)
+		pr.at("design", "[design] needs method = one of %s", strings.Join(methods, ", "))
+		return
+	}
+	if !DesignMethods[d.Method] {
+		methods := make([]string, 0, len(DesignMethods))
+		for m := range DesignMethods {
+			methods = append(methods, m)
+		}
+		sort.Strings(methods)
+		pr.at("design.method", "unknown design method %q: use one of %s", d.Method, strings.Join(methods, ", "))
+		return
+	}
+	if d.Steps < 0 || d.Steps == 1 {
+		pr.at("design.steps", "steps must be 2 or more (it is %d)", d.Steps)
+	}
+	if d.Count < 0 {
+		pr.at("design.count", "count must be positive (it is %d)", d.Count)
+	}
+	switch d.Method {
+	case "factorial":
+		if d.Points != nil || d.File != "" {
+			pr.at("design", "points and file belong to method = \"table\"; remove them or change the method")
+		}
+		if d.Steps == 0 {
+			r.Design.Steps = 3
+		}
+		n := 1
+		for _, p := range r.Params {
+			n *= max(p.Levels(r.Design.Steps), 1)
+			if n > 1_000_000 {
+				pr.at("design", "the full factorial has over a million points: lower the steps, or use a sampling design")
+				return
+			}
+		}
+	case "table":
+		switch {
+		case d.Points != nil && d.File != "":
+			pr.at("design", "give the table either inline (points = [...]) or as a CSV file (file = \"...\"), not both")
+		case d.Points != nil:
+			r.Design.Points = inlinePoints(pr, r, d.Points)
+		case d.File != "":
+			path := d.File
+			if !filepath.IsAbs(path) {
+				path = filepath.Join(r.Dir, path)
+			}
+			pts, errs := readPointsCSV(path, r.Params)
+			for _, e := range errs {
+				pr.list = append(pr.list, e)
+			}
+			if errs == nil && len(pts) == 0 {
+				pr.at("design.file", "the design table %s has no rows: the study would have no variant", d.File)
+			}
+			r.Design.Points = pts
+		default:
+			pr.at("design", "method = \"table\" needs points = [ {param = value, ...}, ... ] or file = \"points.csv\"")
+		}
+	}
+}
+
+func inlinePoints(pr *problems, r *Recipe, raws []map[string]any) []Point {
+	if len(raws) == 0 {
+		pr.at("design.points", "the design table is empty: the study would have no variant")
+		return nil
+	}
+	var pts []Point
+	for i, m := range raws {
+		key := fmt.Sprintf("design.points[%d]", i)
+		pt := Point{Values: make([]Value, len(r.Params)), Where: fmt.Sprintf("%s:%d", pr.file, pr.line(key))}
+		have := make([]bool, len(r.Params))
+		ok := true
+		for k, v := range m {
+			if k == "name" {
+				s, isStr := v.(string)
+				if !isStr || s == "" {
+					pr.at(key, "point %d: name must be a non-empty string", i+1)
+					ok = false
+				}
+				pt.Name = s
+				continue
+			}
+			j := r.ParamIndex(k)
+			if j < 0 {
+				pr.at(key, "point %d names %q, which is not a parameter of the recipe", i+1, k)
+				ok = false
+				continue
+			}
+			val, err := toValue(v)
+			if err != nil {
+				pr.at(key, "point %d, %s: %v", i+1, k, err)
+				ok = false
+				continue
+			}
+			if good, why := r.Params[j].Check(val); !good {
+				pr.at(key, "point %d: %s = %s %s", i+1, k, val, why)
+				ok = false
+			}
+			pt.Values[j], have[j] = val, true
+		}
+		for j, h := range have {
+			if !h && r.Params[j].Name != "" {
+				pr.at(key, "point %d gives no value for parameter %q", i+1, r.Params[j].Name)
+				ok = false
+			}
+		}
+		if ok {
+			pts = append(pts, pt)
+		}
+	}
+	return pts
+}
+
+func toValue(v any) (Value, error) {
+	switch x := v.(type) {
+	case int64:
+		return Num(float64(x)), nil
+	case float64:
+		return Num(x), nil
+	case string:
+		if x == "" {
+			return Value{}, errors.New("empty word")
+		}
+		return Word(x), nil
+	}
+	return Value{}, fmt.Errorf("value %v is neither a number nor a word", v)
+}
+
+func checkStages(pr *problems, r *Recipe, raws []rawStage) {
+	if len(raws) == 0 {
+		pr.at("", "the recipe declares no stage: add a [[stage]] table with name and run")
+		return
+	}
+	seen := map[string]bool{}
+	for i, rs := range raws {
+		key := fmt.Sprintf("stage[%d]", i)
+		s := Stage{Name: rs.Name, Command: rs.Run, Shell: rs.Shell, Retries: rs.Retries, Dir: rs.Dir, Env: rs.Env, Cores: 1, Line: pr.line(key)}
+		switch {
+		case rs.Name == "":
+			pr.at(key, "stage %d has no name: add name = \"...\" (for example \"mesh\" or \"solve\")", i+1)
+		case !identRE.MatchString(rs.Name):
+			pr.at(key+".name", "stage name %q must start with a letter and use only letters, digits and _ (it names log files)", rs.Name)
+		case seen[rs.Name]:
+			pr.at(key+".name", "stage %q is declared twice", rs.Name)
+		}
+		seen[rs.Name] = true
+		if rs.Cores != nil {
+			s.Cores = *rs.Cores
+			if s.Cores < 1 {
+				pr.at(key+".cores", "stage %q: cores must be 1 or more (it is %d)", rs.Name, s.Cores)
+			}
+		}
+		if rs.Retries < 0 {
+			pr.at(key+".retries", "stage %q: retries cannot be negative", rs.Name)
+		}
+		if rs.Timeout != "" {
+			d, err := time.ParseDuration(rs.Timeout)
+			if err != nil || d <= 0 {
+				pr.at(key+".timeout", "stage %q: timeout %q is not a positive duration; write it like \"90s\", \"45m\" or \"12h\"", rs.Name, rs.Timeout)
+			}
+			s.Timeout = d
+		}
+		if rs.Dir != "" && (filepath.IsAbs(rs.Dir) || strings.HasPrefix(filepath.Clean(rs.Dir), "..")) {
+			pr.at(key+".dir", "stage %q: dir %q must be a subdirectory of the variant directory", rs.Name, rs.Dir)
+		}
+		for k := range rs.Env {
+			if !envNameRE.MatchString(k) {
+				pr.at(key+".env", "stage %q: environment variable name %q is not valid (letters, digits and _, not starting with a digit)", rs.Name, k)
+			} else if strings.HasPrefix(k, EnvPrefix) {
+				pr.at(key+".env", "stage %q: environment variable %q uses the reserved prefix %s", rs.Name, k, EnvPrefix)
+			}
+		}
+		switch {
+		case strings.TrimSpace(rs.Run) == "":
+			pr.at(key, "stage %q has no command: add run = \"...\"", rs.Name)
+		case rs.Shell:
+			s.Argv = []string{"sh", "-c", rs.Run, "sh"}
+		default:
+			argv, err := SplitCommand(rs.Run)
+			if err != nil {
+				pr.at(key+".run", "stage %q: %v", rs.Name, err)
+			}
+			if strings.Contains(rs.Run, "{{") {
+				pr.at(key+".run", "stage %q: commands are not templates; read parameter values from the environment (%sPARAM_<NAME>) or from a rendered file", rs.Name, EnvPrefix)
+			}
+			s.Argv = argv
+		}
+		r.Stages = append(r.Stages, s)
+	}
+}
+
+var envNameRE = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)

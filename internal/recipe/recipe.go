@@ -1,0 +1,102 @@
+package recipe
+
+import (
+	"time"
+)
+
+// FileName is the recipe's file name inside a study directory.
+const FileName = "study.toml"
+
+// Recipe is a checked study recipe. Paths in it are absolute.
+type Recipe struct {
+	File        string // absolute path of the recipe file
+	Dir         string // the study directory (the recipe file's directory)
+	Name        string
+	Description string
+	Template    string   // absolute path of the template case directory
+	Render      []string // glob patterns, relative to Template, of files rendered with text/template
+	Copy        []string // glob patterns of files copied instead of hard-linked
+	Params      []Param
+	Design      Design
+	Stages      []Stage
+}
+
+// Kind is the kind of a parameter.
+type Kind int
+
+const (
+	// Range is a continuous parameter between Min and Max.
+	Range Kind = iota
+	// Levels is a numeric parameter that takes one of a list of values.
+	Levels
+	// Choice is a categorical parameter that takes one of a list of words.
+	Choice
+)
+
+func (k Kind) String() string {
+	switch k {
+	case Range:
+		return "range"
+	case Levels:
+		return "levels"
+	case Choice:
+		return "choice"
+	}
+	return "unknown"
+}
+
+// Param is one design parameter.
+type Param struct {
+	Name    string
+	Kind    Kind
+	Min     float64 // Range
+	Max     float64 // Range
+	Log     bool    // Range: points are spread evenly in log(value)
+	Steps   int     // Range: number of levels in a factorial design (0: use the design's default)
+	Unit    string
+	Values  []float64 // Levels
+	Choices []string  // Choice
+	Line    int       // line of the parameter's table in the recipe
+}
+
+// Stage is one step run on every variant, in recipe order.
+type Stage struct {
+	Name    string
+	Command string   // the command line as written
+	Argv    []string // the command split into arguments (sh -c when Shell)
+	Shell   bool     // run Command with sh -c; parameter values still only reach it as environment variables
+	Cores   int
+	Timeout time.Duration // 0: none
+	Retries int
+	Dir     string            // working directory relative to the variant directory ("" = the variant directory)
+	Env     map[string]string // extra constant environment variables
+	Line    int
+}
+
+// Design says how the variants' points are chosen.
+type Design struct {
+	Method string  // "factorial" or "table"; further methods come from package doe
+	Steps  int     // default number of levels per range parameter in a factorial
+	Points []Point // for "table": the explicit points, from the recipe or a CSV file
+	Seed   uint64
+	Count  int // number of points for sampling designs
+	Line   int
+}
+
+// Point is one explicit design point: a value for every parameter, and an
+// optional free-text name that identifies it across re-planning.
+type Point struct {
+	Name   string
+	Values []Value // in the order of Recipe.Params
+	Where  string  // "file:line" where the point was written
+}
+
+// ParamIndex returns the index of the named parameter, or -1.
+func (r *Recipe) ParamIndex(name string) int {
+	for i, p := range r.Params {
+		if p.Name == name {
+			return i
+		}
+	}
+	return -1
+}

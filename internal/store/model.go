@@ -1,0 +1,61 @@
+package store
+
+import (
+	"time"
+
+	"github.com/sweep-cfd/sweep/internal/recipe"
+)
+
+// State is the state of a job.
+type State string
+
+// Job states. A job interrupted by the user or by a crash goes back to
+// Pending (with Interrupts counted), not to Failed.
+const (
+	Pending State = "pending"
+	Running State = "running"
+	Done    State = "done"
+	Failed  State = "failed"
+)
+
+// Study is the study's own record.
+type Study struct {
+	ID      string    `json:"id"`
+	Created time.Time `json:"created"`
+	NextSeq uint64    `json:"next_seq"`
+	Params  []string  `json:"params"` // parameter names, in the order variants store values
+}
+
+// Variant is one point of the design and its rendered case.
+type Variant struct {
+	Seq      uint64         `json:"seq"`
+	ID       string         `json:"id"`    // a UUID, stable for the life of the study
+	Label    string         `json:"label"` // short readable label, also the directory name
+	Name     string         `json:"name,omitempty"`
+	Values   []recipe.Value `json:"values"`
+	Where    string         `json:"where,omitempty"` // where the point was declared, for messages
+	Rendered bool           `json:"rendered"`
+	Created  time.Time      `json:"created"`
+}
+
+// Job is one stage of one variant.
+type Job struct {
+	Variant    uint64    `json:"variant"` // the variant's Seq
+	Stage      string    `json:"stage"`
+	Index      int       `json:"index"` // position of the stage in the recipe when the job was made
+	State      State     `json:"state"`
+	Attempts   int       `json:"attempts"`             // runs that ended (success or failure), not counting interruptions
+	Interrupts int       `json:"interrupts,omitempty"` // runs stopped by the user or lost in a crash
+	Token      string    `json:"token,omitempty"`      // identifies the current run's processes
+	PID        int       `json:"pid,omitempty"`
+	Cores      int       `json:"cores,omitempty"`
+	Started    time.Time `json:"started,omitzero"`
+	Ended      time.Time `json:"ended,omitzero"`
+	ExitCode   int       `json:"exit_code,omitempty"`
+	Reason     string    `json:"reason,omitempty"` // why it failed, or why it was re-queued
+	Tail       []string  `json:"tail,omitempty"`   // last lines of the log of a failed run
+}
+
+// Key returns the job's database key: the variant's sequence number and
+// the stage index, so a scan visits jobs in variant order, stages in order.
+func (j *Job) Key() []byte { return jobKey(j.Variant, j.Index) }

@@ -1,0 +1,258 @@
+package store
+
+import (
+	"encoding/binary"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"time"
+
+	bolt "go.etcd.io/bbolt"
+)
+
+// Dir is the name of the program's directory inside a study.
+const Dir = ".sweep"
+
+var (
+	bucketMeta     = []byte("meta")
+	bucketVariants = []byte("variants")
+	bucketJobs     = []byte("jobs")
+	bucketKeys     = []byte("keys") // point key (name or values) -> variant seq
+	keyStudy       = []byte("study")
+)
+
+// ErrNoStudy is returned when a directory has no planned study.
+var ErrNoStudy = errors.New("no planned study here")
+
+// Options tune how a Store uses its database.
+type Options struct {
+	// Brief opens the database file for each transaction and closes it
+	// after, so other processes can read between transactions. Each open
+	// costs well under a millisecond. Default false: the file stays open.
+	Brief bool
+	// Timeout is how long to wait for another process's transaction to
+	// finish before giving up. Default 10 s.
+	Timeout time.Duration
+}
+
+// Store is a study database.
+type Store struct {
+	path string
+	opts Options
+	db   *bolt.DB
+}
+
+// Path returns the database file's path for a study directory.
+func Path(studyDir string) string { return filepath.Join(studyDir, Dir, "study.db") }
+
+// Exists reports whether the study directory has a database.
+func Exists(studyDir string) bool {
+	_, err := os.Stat(Path(studyDir))
+	return err == nil
+}
+
+// Open opens (creating if needed) the database of the study in studyDir.
+func Open(studyDir string, opts Options) (*Store, error) {
+	if opts.Timeout == 0 {
+		opts.Timeout = 10 * time.Second
+	}
+	if err := os.MkdirAll(filepath.Join(studyDir, Dir), 0o755); err != nil {
+		return nil, fmt.Errorf("create %s: %w", Dir, err)
+	}
+	s := &Store{path: Path(studyDir), opts: opts}
+	db, err := s.open()
+	if err != nil {
+		return nil, err
+	}
+	err = db.Update(func(tx *bolt.Tx) error {
+		for _, b := range [][]byte{bucketMeta, bucketVariants, bucketJobs, bucketKeys} {
+			if _, err := tx.CreateBucketIfNotExists(b); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		db.Close()
+		return nil, fmt.Errorf("initialise %s: %w", s.path, err)
+	}
+	if opts.Brief {
+		db.Close()
+	} else {
+		s.db = db
+	}
+	return s, nil
+}
+
+// OpenExisting opens the database of a study that has been planned, and
+// returns ErrNoStudy (wrapped, with advice) when there is none.
+func OpenExisting(studyDir string, opts Options) (*Store, error) {
+	if !Exists(studyDir) {
+		return nil, fmt.Errorf("%s: %w; run `sweep plan %s` first", studyDir, ErrNoStudy, studyDir)
+	}
+	return Open(studyDir, opts)
+}
+
+func (s *Store) open() (*bolt.DB, error) {
+	db, err := bolt.Open(s.path, 0o644, &bolt.Options{Timeout: s.opts.Timeout})
+	if err != nil {
+		if errors.Is(err, bolt.ErrTimeout) {
+			return nil, fmt.Errorf("open %s: another process kept the database busy for %s; try again", s.path, s.opts.Timeout)
+		}
+		return nil, fmt.Errorf("open %s: %w", s.path, err)
+	}
+	return db, nil
+}
+
+// Close closes the database.
+func (s *Store) Close() error {
+	if s.db == nil {
+		return nil
+	}
+	err := s.db.Close()
+	s.db = nil
+	return err
+}
+
+// Update runs fn in a read-write transaction and commits it (fsynced)
+// before returning.
+func (s *Store) Update(fn func(*Tx) error) error {
+	return s.with(func(db *bolt.DB) error {
+		return db.Update(func(tx *bolt.Tx) error { return fn(&Tx{tx}) })
+	})
+}
+
+// View runs fn in a read-only transaction.
+func (s *Store) View(fn func(*Tx) error) error {
+	return s.with(func(db *bolt.DB) error {
+		return db.View(func(tx *bolt.Tx) error { return fn(&Tx{tx}) })
+	})
+}
+
+func (s *Store) with(fn func(*bolt.DB) error) error {
+	if s.db != nil {
+		return fn(s.db)
+	}
+	db, err := s.open()
+	if err != nil {
+		return err
+	}
+	err = fn(db)
+	if cerr := db.Close(); err == nil {
+		err = cerr
+	}
+	return err
+}
+
+// Tx is a transaction on a study database. The read methods Study,
+// Variants and PointKey also work on a nil *Tx, which reads as an empty
+// database (a dry-run plan of a study never planned).
+type Tx struct{ tx *bolt.Tx }
+
+// Study returns the study record, or ok false before the first plan.
+func (t *Tx) Study() (st Study, ok bool, err error) {
+	if t == nil {
+		return Study{}, false, nil
+	}
+	b := t.tx.Bucket(bucketMeta).Get(keyStudy)
+	if b == nil {
+		return Study{}, false, nil
+	}
+	err = json.Unmarshal(b, &st)
+	return st, true, err
+}
+
+// PutStudy writes the study record.
+func (t *Tx) PutStudy(st Study) error { return t.put(bucketMeta, keyStudy, st) }
+
+// Variant returns the variant with the given sequence number.
+func (t *Tx) Variant(seq uint64) (Variant, bool, error) {
+	var v Variant
+	b := t.tx.Bucket(bucketVariants).Get(seqKey(seq))
+	if b == nil {
+		return v, false, nil
+	}
+	return v, true, json.Unmarshal(b, &v)
+}
+
+// PutVariant writes a variant.
+func (t *Tx) PutVariant(v Variant) error { return t.put(bucketVariants, seqKey(v.Seq), v) }
+
+// Variants calls fn for each variant in sequence order; fn may stop the
+// walk by returning an error.
+func (t *Tx) Variants(fn func(Variant) error) error {
+	if t == nil {
+		return nil
+	}
+	return t.tx.Bucket(bucketVariants).ForEach(func(_, b []byte) error {
+		var v Variant
+		if err := json.Unmarshal(b, &v); err != nil {
+			return err
+		}
+		return fn(v)
+	})
+}
+
+// PointKey returns the variant that a design point's key belongs to.
+func (t *Tx) PointKey(key string) (uint64, bool) {
+	if t == nil {
+		return 0, false
+	}
+	b := t.tx.Bucket(bucketKeys).Get([]byte(key))
+	if len(b) != 8 {
+		return 0, false
+	}
+	return binary.BigEndian.Uint64(b), true
+}
+
+// PutPointKey records that a design point's key belongs to a variant.
+func (t *Tx) PutPointKey(key string, seq uint64) error {
+	return t.tx.Bucket(bucketKeys).Put([]byte(key), seqKey(seq))
+}
+
+// Job returns the job of a variant's stage.
+func (t *Tx) Job(variant uint64, index int) (Job, bool, error) {
+	var j Job
+	b := t.tx.Bucket(bucketJobs).Get(jobKey(variant, index))
+	if b == nil {
+		return j, false, nil
+	}
+	return j, true, json.Unmarshal(b, &j)
+}
+
+// PutJob writes a job.
+func (t *Tx) PutJob(j Job) error { return t.put(bucketJobs, j.Key(), j) }
+
+// Jobs calls fn for each job, in variant then stage order.
+func (t *Tx) Jobs(fn func(Job) error) error {
+	return t.tx.Bucket(bucketJobs).ForEach(func(_, b []byte) error {
+		var j Job
+		if err := json.Unmarshal(b, &j); err != nil {
+			return err
+		}
+		return fn(j)
+	})
+}
+
+func (t *Tx) put(bucket, key []byte, v any) error {
+	b, err := json.Marshal(v)
+	if err != nil {
+		return err
+	}
+	return t.tx.Bucket(bucket).Put(key, b)
+}
+
+func seqKey(seq uint64) []byte {
+	k := make([]byte, 8)
+	binary.BigEndian.PutUint64(k, seq)
+	return k
+}
+
+func jobKey(variant uint64, index int) []byte {
+	k := make([]byte, 10)
+	binary.BigEndian.PutUint64(k, variant)
+	binary.BigEndian.PutUint16(k[8:], uint16(index))
+	return k
+}

@@ -1,0 +1,3 @@
+// Package ui prints what the commands report: aligned tables, JSON, and a
+// run's progress line.
+package ui
