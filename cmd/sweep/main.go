@@ -10,6 +10,7 @@ import (
 	"syscall"
 
 	"github.com/sweep-cfd/sweep/internal/runner"
+	"github.com/sweep-cfd/sweep/internal/store"
 )
 
 func main() {
@@ -23,8 +24,9 @@ func main() {
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "sweep:", err)
 	}
+	code := exitCode(ctx, err)
 	stop()
-	os.Exit(exitCode(ctx, err))
+	os.Exit(code)
 }
 
 // Exit statuses, listed in the root command's help.
@@ -47,7 +49,7 @@ func exitCode(ctx context.Context, err error) int {
 		return exitOK
 	case errors.Is(err, runner.ErrInterrupted) || errors.Is(err, context.Canceled) || ctx.Err() != nil:
 		return exitInterrupted
-	case errors.As(err, &ue) || isRecipeError(err):
+	case errors.As(err, &ue) || isRecipeError(err) || errors.Is(err, store.ErrNoStudy):
 		return exitUsage
 	default:
 		return exitFailed

@@ -25,7 +25,7 @@ codes and licensed practice that apply where you work.
 Exit status:
   0    success
   1    the work failed (a job failed, a run could not finish)
-  2    bad usage or a bad recipe (the message names file:line)
+  2    bad usage, a bad recipe (the message names file:line), or no study here
   130  interrupted (Ctrl-C or SIGTERM); running jobs were re-queued`,
 		SilenceUsage:  true,
 		SilenceErrors: true,

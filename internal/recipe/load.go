@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"reflect"
 	"regexp"
 	"sort"
 	"strings"
@@ -130,10 +131,57 @@ func decodeProblems(pr *problems, err error) {
 	var de *toml.DecodeError
 	if errors.As(err, &de) {
 		row, _ := de.Position()
-		pr.list = append(pr.list, &Error{File: pr.file, Line: row, Msg: "not valid TOML: " + de.Error()})
+		msg := "not valid TOML: " + strings.TrimPrefix(de.Error(), "toml: ")
+		if m := typeErrRE.FindStringSubmatch(de.Error()); m != nil {
+			msg = fmt.Sprintf("key %q must be %s, not %s", tomlName(m[2]), goTypeWords(m[3]), article(m[1]))
+		}
+		pr.list = append(pr.list, &Error{File: pr.file, Line: row, Msg: msg})
 		return
 	}
 	pr.list = append(pr.list, &Error{File: pr.file, Msg: tidyDecodeError(err.Error())})
+}
+
+// typeErrRE matches the decoder's message for a value of the wrong type.
+var typeErrRE = regexp.MustCompile(`cannot decode TOML (\w+) into struct field \S*\.(\w+) of type (\S+)`)
+
+// tomlName turns a raw struct field name back into its recipe key.
+func tomlName(field string) string {
+	for _, t := range []reflect.Type{reflect.TypeOf(rawRecipe{}), reflect.TypeOf(rawCase{}), reflect.TypeOf(rawParam{}), reflect.TypeOf(rawDesign{}), reflect.TypeOf(rawStage{})} {
+		if f, ok := t.FieldByName(field); ok {
+			return f.Tag.Get("toml")
+		}
+	}
+	return strings.ToLower(field)
+}
+
+func goTypeWords(t string) string {
+	switch {
+	case t == "string":
+		return "text in quotes"
+	case strings.HasPrefix(t, "float") || t == "*float64":
+		return "a number"
+	case strings.HasPrefix(t, "int") || strings.HasPrefix(t, "uint") || t == "*int":
+		return "a whole number"
+	case t == "bool":
+		return "true or false"
+	case strings.HasPrefix(t, "[]"):
+		return "a list [...]"
+	case strings.HasPrefix(t, "map"):
+		return "a table { ... }"
+	}
+	return "of type " + t
+}
+
+func article(kind string) string {
+	switch kind {
+	case "integer":
+		return "an integer"
+	case "array":
+		return "an array"
+	case "inline":
+		return "an inline table"
+	}
+	return "a " + kind
 }
 
 func tidyDecodeError(s string) string {

@@ -1,0 +1,259 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+)
+
+// sweepBin is the program built once for the tests that run it as users do.
+var sweepBin string
+
+func TestMain(m *testing.M) {
+	dir, err := os.MkdirTemp("", "sweep-bin-")
+	if err != nil {
+		panic(err)
+	}
+	sweepBin = filepath.Join(dir, "sweep")
+	if runtime.GOOS == "windows" {
+		sweepBin += ".exe"
+	}
+	build := exec.Command("go", "build", "-o", sweepBin, ".")
+	build.Stderr = os.Stderr
+	if err := build.Run(); err != nil {
+		panic("build sweep: " + err.Error())
+	}
+	code := m.Run()
+	os.RemoveAll(dir)
+	os.Exit(code)
+}
+
+// sweep runs the program and returns its stdout, stderr and exit status.
+func sweep(t *testing.T, args ...string) (string, string, int) {
+	t.Helper()
+	cmd := exec.Command(sweepBin, args...)
+	var out, errb bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &errb
+	err := cmd.Run()
+	code := 0
+	if ee, ok := err.(*exec.ExitError); ok {
+		code = ee.ExitCode()
+	} else if err != nil {
+		t.Fatal(err)
+	}
+	return out.String(), errb.String(), code
+}
+
+func writeFile(t *testing.T, path, text string, mode os.FileMode) {
+	t.Helper()
+	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, []byte(text), mode); err != nil {
+		t.Fatal(err)
+	}
+}
+
+type statusJSON struct {
+	Counts struct {
+		Done, Failed, Pending, Running int
+	} `json:"counts"`
+	Variants []struct {
+		ID     string         `json:"id"`
+		Label  string         `json:"label"`
+		State  string         `json:"state"`
+		Params map[string]any `json:"params"`
+	} `json:"variants"`
+}
+
+func status(t *testing.T, dir string) statusJSON {
+	t.Helper()
+	out, errs, code := sweep(t, "status", dir, "--json")
+	if code != 0 {
+		t.Fatalf("status: %d %s", code, errs)
+	}
+	var s statusJSON
+	if err := json.Unmarshal([]byte(out), &s); err != nil {
+		t.Fatalf("status --json: %v\n%s", err, out)
+	}
+	return s
+}
+
+// Ensure that a runner killed with SIGKILL in the middle of a study, and
+// started again, finishes the study with every variant's stages run
+// exactly once: none lost, none redone (each finished run appends a line
+// to a counter file).
+func TestKillAndResume(t *testing.T) {
+	if testing.Short() {
+		t.Skip("crash test skipped under -short")
+	}
+	dir := t.TempDir()
+	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	writeFile(t, filepath.Join(dir, "study.toml"), `name = "crash"
+[case]
+template = "template"
+render = ["case.txt"]
+[[param]]
+name = "k"
+values = [1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12]
+[design]
+method = "factorial"
+[[stage]]
+name = "mesh"
+run = "sh -c 'sleep 0.15; echo $SWEEP_VARIANT_LABEL >> ../../mesh-count'"
+[[stage]]
+name = "solve"
+run = "sh -c 'sleep 0.35; echo $SWEEP_VARIANT_LABEL >> ../../solve-count'"
+`, 0o644)
+	if _, errs, code := sweep(t, "plan", dir); code != 0 {
+		t.Fatalf("plan: %s", errs)
+	}
+	// Kill the runner twice, at different moments, then let it finish.
+	for _, after := range []time.Duration{900 * time.Millisecond, 1300 * time.Millisecond} {
+		cmd := exec.Command(sweepBin, "run", dir, "--cores", "2")
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		time.Sleep(after / 2)
+		// A second run on the same study must fail at once, naming the holder.
+		_, errs, code := sweep(t, "run", dir)
+		if code == 0 || !strings.Contains(errs, "study is in use") || !strings.Contains(errs, "pid") {
+			t.Errorf("second run: exit %d, %q", code, errs)
+		}
+		time.Sleep(after / 2)
+		cmd.Process.Signal(syscall.SIGKILL)
+		cmd.Wait()
+	}
+	mid := status(t, dir)
+	if mid.Counts.Done == 12 {
+		t.Fatal("the study finished before the runner was killed; the test proves nothing")
+	}
+	if _, errs, code := sweep(t, "run", dir, "--cores", "2"); code != 0 {
+		t.Fatalf("resumed run: exit %d: %s", code, errs)
+	}
+	for _, stage := range []string{"mesh", "solve"} {
+		b, err := os.ReadFile(filepath.Join(dir, stage+"-count"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		lines := strings.Fields(string(b))
+		sort.Strings(lines)
+		want := make([]string, 12)
+		for i := range want {
+			want[i] = "v0" + string(rune('0'+(i+1)/10)) + string(rune('0'+(i+1)%10))
+		}
+		if strings.Join(lines, " ") != strings.Join(want, " ") {
+			t.Errorf("%s ran %d times: %v; want each variant exactly once", stage, len(lines), lines)
+		}
+	}
+	end := status(t, dir)
+	if end.Counts.Done != 12 || end.Counts.Failed+end.Counts.Pending+end.Counts.Running != 0 {
+		t.Errorf("final counts %+v", end.Counts)
+	}
+}
+
+// Ensure that parameter values reach the solver only as data: payloads
+// that a shell would run create no file, nothing is written outside the
+// study directory, and the values arrive byte for byte.
+func TestValuesNeverReachShell(t *testing.T) {
+	root := t.TempDir()
+	dir := filepath.Join(root, "study")
+	payloads := []string{"$(touch INJECTED)", "; touch INJECTED2", "`touch INJECTED3`", "../../outside", "'; touch INJECTED4; '"}
+	quoted := make([]string, len(payloads))
+	for i, p := range payloads {
+		b, _ := json.Marshal(p)
+		quoted[i] = string(b)
+	}
+	writeFile(t, filepath.Join(dir, "template", "case.txt"), "value {{.v}}\n", 0o644)
+	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+template = "template"
+render = ["case.txt"]
+[[param]]
+name = "v"
+choices = [`+strings.Join(quoted, ", ")+`]
+[design]
+method = "factorial"
+[[stage]]
+name = "direct"
+run = "sh -c 'printf %s \"$SWEEP_PARAM_V\" > value.txt'"
+[[stage]]
+name = "script"
+shell = true
+run = "cat case.txt > copy.txt; echo \"$SWEEP_PARAM_V\" >> copy.txt"
+`, 0o644)
+	before, _ := os.ReadDir(root)
+	if _, errs, code := sweep(t, "plan", dir); code != 0 {
+		t.Fatalf("plan: %s", errs)
+	}
+	if _, errs, code := sweep(t, "run", dir); code != 0 {
+		t.Fatalf("run: %s", errs)
+	}
+	filepath.WalkDir(root, func(p string, d os.DirEntry, err error) error {
+		if err == nil && strings.HasPrefix(d.Name(), "INJECTED") {
+			t.Errorf("a parameter value was run by a shell: %s exists", p)
+		}
+		return nil
+	})
+	after, _ := os.ReadDir(root)
+	if len(after) != len(before) {
+		t.Errorf("something was written beside the study: %v", after)
+	}
+	if _, err := os.Stat(filepath.Join(root, "outside")); err == nil {
+		t.Error("a value wrote outside the study")
+	}
+	for _, v := range status(t, dir).Variants {
+		val := v.Params["v"].(string)
+		b, err := os.ReadFile(filepath.Join(dir, "variants", v.Label, "value.txt"))
+		if err != nil || string(b) != val {
+			t.Errorf("%s: value.txt = %q, want %q (%v)", v.Label, b, val, err)
+		}
+		c, _ := os.ReadFile(filepath.Join(dir, "variants", v.Label, "copy.txt"))
+		if string(c) != "value "+val+"\n"+val+"\n" {
+			t.Errorf("%s: copy.txt = %q", v.Label, c)
+		}
+		if strings.ContainsAny(v.Label, "/.$;`'") {
+			t.Errorf("variant directory named from a value: %q", v.Label)
+		}
+	}
+}
+
+// Ensure that the starter study that `sweep new` writes plans and runs to
+// completion with nothing but this program installed, and that a bad
+// recipe gives exit status 2 with its file and line.
+func TestStarterStudy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs the starter study (about 10 s)")
+	}
+	dir := filepath.Join(t.TempDir(), "starter")
+	if _, errs, code := sweep(t, "new", dir); code != 0 {
+		t.Fatalf("new: %s", errs)
+	}
+	if _, errs, code := sweep(t, "plan", dir); code != 0 {
+		t.Fatalf("plan: %s", errs)
+	}
+	if _, errs, code := sweep(t, "run", dir, "-q"); code != 0 {
+		t.Fatalf("run: %s", errs)
+	}
+	s := status(t, dir)
+	if s.Counts.Done != 12 || len(s.Variants) != 12 {
+		t.Errorf("starter: %+v", s.Counts)
+	}
+	if _, errs, code := sweep(t, "new", dir); code != 2 || !strings.Contains(errs, "is not empty") {
+		t.Errorf("new over a study: %d %q", code, errs)
+	}
+	recipe := filepath.Join(dir, "study.toml")
+	b, _ := os.ReadFile(recipe)
+	os.WriteFile(recipe, bytes.Replace(b, []byte("min = 0.0"), []byte("min = 0.5"), 1), 0o644)
+	_, errs, code := sweep(t, "plan", dir)
+	if code != 2 || !strings.Contains(errs, "study.toml:27: parameter \"nose\" has min (0.5) above max (0.3): swap them") {
+		t.Errorf("bad recipe: exit %d, %q", code, errs)
+	}
+}
