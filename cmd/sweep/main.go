@@ -17,7 +17,7 @@ func main() {
 	if runner.IsExecutor() {
 		os.Exit(runner.ExecutorMain(os.Stdin, os.Stdout))
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
 	defer stop()
 	cmd := newRootCmd()
 	err := cmd.ExecuteContext(ctx)

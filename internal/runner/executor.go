@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 	"os/exec"
+	"os/signal"
 	"path/filepath"
 	"sync"
 	"syscall"
@@ -22,6 +23,11 @@ func IsExecutor() bool { return os.Getenv(executorEnv) != "" }
 // process exit status when in closes. See the package comment.
 func ExecutorMain(in io.Reader, out io.Writer) int {
 	dir := os.Getenv(executorEnv)
+	// When the runner dies, writing an event to it fails. Without this, Go
+	// would end the executor on SIGPIPE (writes to fd 1 are fatal), leaving
+	// its jobs orphaned and their ends unrecorded. Hang-ups are the
+	// runner's business too.
+	signal.Notify(make(chan os.Signal, 1), syscall.SIGPIPE, syscall.SIGHUP)
 	lock, err := os.OpenFile(filepath.Join(dir, "executor.lock"), os.O_RDWR|os.O_CREATE, 0o644)
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "sweep executor:", err)
