@@ -2,6 +2,7 @@ package recipe
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"strconv"
 )
@@ -46,7 +47,12 @@ func (v *Value) UnmarshalJSON(b []byte) error {
 		return json.Unmarshal(b, &v.Text)
 	}
 	v.Text = ""
-	return json.Unmarshal(b, &v.Num)
+	x, err := strconv.ParseFloat(string(b), 64)
+	if err != nil {
+		return fmt.Errorf("parameter value %s: %w", b, err)
+	}
+	v.Num = x
+	return nil
 }
 
 // Equal reports whether two values are the same parameter value.

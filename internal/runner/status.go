@@ -45,6 +45,9 @@ func Status(st *store.Store, name string) (*Report, error) {
 			return err
 		}
 		rep.Params = s.Params
+		if s.NextSeq > 1 {
+			rep.Variants = make([]VariantStatus, 0, s.NextSeq-1)
+		}
 		if err := tx.Variants(func(v store.Variant) error {
 			if !v.Rendered {
 				return nil

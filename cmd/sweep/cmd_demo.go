@@ -1,0 +1,79 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"github.com/sweep-cfd/sweep/internal/plan"
+	"github.com/sweep-cfd/sweep/internal/runner"
+	"github.com/sweep-cfd/sweep/internal/starter"
+	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/ui"
+)
+
+func newDemoCmd() *cobra.Command {
+	var cores int
+	cmd := &cobra.Command{
+		Use:   "demo [DIR]",
+		Short: "Write, plan and run the built-in demo study (default DIR: sweep-demo)",
+		Long: `demo writes the built-in demo study into DIR (default ./sweep-demo), plans
+it, runs it on this machine's cores and prints where every variant stands.
+Run it again to resume or to see the results; everything it does can be
+done step by step with new, plan, run and status.`,
+		Args: maxOneDir,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			dir := "sweep-demo"
+			if len(args) == 1 {
+				dir = filepath.Clean(args[0])
+			}
+			return runDemo(cmd, dir, cores)
+		},
+	}
+	cmd.Flags().IntVar(&cores, "cores", 0, "cores the run may use at once (default: all)")
+	return cmd
+}
+
+func runDemo(cmd *cobra.Command, dir string, cores int) error {
+	out := cmd.OutOrStdout()
+	if _, err := os.Stat(filepath.Join(dir, "study.toml")); errors.Is(err, os.ErrNotExist) {
+		if err := starter.Write(dir); err != nil {
+			return usageError{err}
+		}
+		fmt.Fprintf(out, "wrote the demo study in %s\n", dir)
+	} else {
+		fmt.Fprintf(out, "using the study already in %s\n", dir)
+	}
+	r, err := loadRecipe(dir)
+	if err != nil {
+		return err
+	}
+	lock, err := store.Acquire(dir, "demo")
+	if err != nil {
+		return err
+	}
+	defer lock.Release()
+	res, err := plan.Plan(cmd.Context(), r, plan.Options{})
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(out, "planned %d variants (%d new)\n", res.Added+res.Kept, res.Added)
+	prog := ui.NewRunProgress(os.Stderr, false)
+	snap, err := runner.Run(cmd.Context(), r, runner.Options{Cores: cores, Progress: prog})
+	prog.Finish()
+	if err != nil {
+		return err
+	}
+	fmt.Fprintln(out)
+	if err := runStatus(out, statusOptions{}, dir); err != nil {
+		return err
+	}
+	fmt.Fprintf(out, "\nThe study lives in %s: study.toml is the recipe, variants/<label>/ holds each case and its logs.\n", dir)
+	if snap.Failed > 0 {
+		return fmt.Errorf("%d variants failed", snap.Failed)
+	}
+	return nil
+}
