@@ -263,6 +263,12 @@ func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, vs []store.Va
 	if len(vs) == 0 {
 		return nil
 	}
+	vdir := filepath.Join(r.Dir, VariantsDir)
+	tmp, err := os.MkdirTemp(vdir, tempPrefix)
+	if err != nil {
+		return err
+	}
+	defer os.RemoveAll(tmp)
 	workers := min(runtime.NumCPU(), len(vs))
 	work := make(chan store.Variant)
 	var (
@@ -278,7 +284,7 @@ func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, vs []store.Va
 			defer wg.Done()
 			for v := range work {
 				final := Dir(r.Dir, v.Label)
-				err := renderOne(r, lay, v, final)
+				err := renderOne(r, lay, v, filepath.Join(tmp, v.Label), final)
 				mu.Lock()
 				if err != nil {
 					errs = append(errs, fmt.Errorf("variant %s: %w", v.Label, err))
@@ -313,26 +319,25 @@ func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, vs []store.Va
 	return nil
 }
 
-func renderOne(r *recipe.Recipe, lay *layout, v store.Variant, final string) error {
-	tmp, err := os.MkdirTemp(filepath.Dir(final), tempPrefix+v.Label+"-")
-	if err != nil {
-		return err
-	}
-	dir := filepath.Join(tmp, "case")
+// renderOne renders a variant into dir (inside the plan's temporary
+// directory) and moves it to final.
+func renderOne(r *recipe.Recipe, lay *layout, v store.Variant, dir, final string) error {
 	if err := lay.render(dir, Data(r, v.Values)); err != nil {
-		os.RemoveAll(tmp)
+		os.RemoveAll(dir)
 		return err
 	}
 	// A directory at the final place belongs to no record (a record is
 	// written only after its directory is in place): it is what a plan
 	// interrupted between rename and commit left behind.
-	if err := os.RemoveAll(final); err != nil {
-		os.RemoveAll(tmp)
-		return err
+	if _, err := os.Lstat(final); err == nil {
+		if err := os.RemoveAll(final); err != nil {
+			os.RemoveAll(dir)
+			return err
+		}
 	}
 	if err := os.Rename(dir, final); err != nil {
-		os.RemoveAll(tmp)
+		os.RemoveAll(dir)
 		return err
 	}
-	return os.Remove(tmp)
+	return nil
 }
