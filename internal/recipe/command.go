@@ -13,6 +13,11 @@ import (
 // for a stage.
 const EnvPrefix = "SWEEP_"
 
+// SelfProgram is the program name that, as a stage's first word, means
+// this very program (for its built-in solver), wherever it is installed,
+// so a recipe need not know the binary's path or have it on PATH.
+const SelfProgram = "sweep"
+
 // SplitCommand splits a command line into arguments the way a person reads
 // it, without a shell: words are separated by blanks; single quotes keep
 // everything literally; double quotes keep blanks and allow \" and \\;
@@ -80,6 +85,9 @@ func (r *Recipe) CheckCommands() error {
 	pr := &problems{file: filepath.Base(r.File)}
 	for _, s := range r.Stages {
 		prog := s.Argv[0]
+		if prog == SelfProgram && !s.Shell {
+			continue
+		}
 		if strings.ContainsRune(prog, '/') {
 			p := prog
 			if !filepath.IsAbs(p) {

@@ -86,7 +86,7 @@ func Run(ctx context.Context, r *recipe.Recipe, opts Options) (*Snapshot, error)
 	if err != nil {
 		return nil, err
 	}
-	d := &dispatcher{r: r, st: st, q: q, x: x, opts: opts, free: opts.Cores, running: map[string]*active{}, start: time.Now()}
+	d := &dispatcher{r: r, st: st, q: q, x: x, opts: opts, exe: exe, free: opts.Cores, running: map[string]*active{}, start: time.Now()}
 	runErr := d.loop(ctx)
 	if cerr := x.close(); runErr == nil && cerr != nil {
 		runErr = cerr
@@ -116,6 +116,7 @@ type dispatcher struct {
 	q       *queue
 	x       *execClient
 	opts    Options
+	exe     string // this program, run for stages whose program is recipe.SelfProgram
 	free    int
 	running map[string]*active
 	start   time.Time
@@ -330,9 +331,14 @@ func (d *dispatcher) logPath(a *active) string {
 func (d *dispatcher) startRequest(a *active) request {
 	vdir := plan.Dir(d.r.Dir, a.vs.v.Label)
 	env := append(os.Environ(), d.r.Env(a.vs.v.Values, a.vs.v.ID, a.vs.v.Label, vdir, a.stage)...)
+	env = append(env, recipe.EnvPrefix+"BIN="+d.exe)
 	header := fmt.Sprintf("=== sweep: stage %s of %s, attempt %d, started %s ===\n",
 		a.stage.Name, a.vs.v.Label, a.job.Attempts+1, a.job.Started.Local().Format(time.DateTime))
-	return request{Op: "start", Token: a.job.Token, Argv: a.stage.Argv, Env: env,
+	argv := a.stage.Argv
+	if argv[0] == recipe.SelfProgram && !a.stage.Shell {
+		argv = append([]string{d.exe}, argv[1:]...)
+	}
+	return request{Op: "start", Token: a.job.Token, Argv: argv, Env: env,
 		Dir: filepath.Join(vdir, a.stage.Dir), Log: d.logPath(a), Header: header}
 }
 
