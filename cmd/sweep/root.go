@@ -31,7 +31,7 @@ Exit status:
 		SilenceErrors: true,
 	}
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError{err} })
-	root.AddCommand(newDemoCmd(), newNewCmd(), newPlanCmd(), newRunCmd(), newStatusCmd(), newResetCmd())
+	root.AddCommand(newDemoCmd(), newNewCmd(), newPlanCmd(), newRunCmd(), newStatusCmd(), newResetCmd(), newFlow2dCmd())
 	return root
 }
 
