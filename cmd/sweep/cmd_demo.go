@@ -10,9 +10,9 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/runner"
-	"github.com/sweep-cfd/sweep/recipes"
 	"github.com/sweep-cfd/sweep/internal/store"
 	"github.com/sweep-cfd/sweep/internal/ui"
+	"github.com/sweep-cfd/sweep/recipes"
 )
 
 func newDemoCmd() *cobra.Command {
