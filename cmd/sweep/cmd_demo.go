@@ -21,10 +21,12 @@ func newDemoCmd() *cobra.Command {
 		Use:   "demo [DIR]",
 		Short: "Write, plan and run the built-in demo study (default DIR: sweep-demo)",
 		Long: `demo writes the built-in demo study into DIR (default ./sweep-demo), plans
-it, runs it on this machine's cores and prints where every variant stands.
+it, runs it on this machine's cores harvests the drag histories and prints the variants ranked by their
+averaged drag, with 95 % intervals and significance groups.
 The study: a 2D box-shaped body near a moving ground, whose nose-corner
 radius and tail taper angle vary over 9 variants, each a run of the
-built-in 2D solver (about two minutes in all on two cores). Run it again
+built-in 2D solver, each stopped as soon as its drag average has
+converged (about two minutes in all on two cores). Run it again
 to resume or to see the results; everything it does can be done step by
 step with plan, run and status.`,
 		Args: maxOneDir,
@@ -71,10 +73,10 @@ func runDemo(cmd *cobra.Command, dir string, cores int) error {
 		return err
 	}
 	fmt.Fprintln(out)
-	if err := runStatus(out, statusOptions{}, dir); err != nil {
+	if err := runRank(cmd, rankOptions{}, dir); err != nil {
 		return err
 	}
-	fmt.Fprintf(out, "\nThe study lives in %s: study.toml is the recipe, variants/<label>/ holds each case and its logs.\n", dir)
+	fmt.Fprintf(out, "\nThe study lives in %s: study.toml is the recipe, variants/<label>/ holds each case, its\nhistory and its log; results/summary.csv the averages. Next: sweep rank %s --baseline v001\n", dir, dir)
 	if snap.Failed > 0 {
 		return fmt.Errorf("%d variants failed", snap.Failed)
 	}

@@ -2,6 +2,10 @@ package main
 
 import (
 	"bufio"
+	"encoding/json"
+	"fmt"
+	"math"
+	"math/rand/v2"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -23,7 +27,7 @@ func TestFlow2dStopsOnSIGTERM(t *testing.T) {
 		t.Fatal(err)
 	}
 	tpl, _ := os.ReadFile(filepath.Join(dir, "s", "template", "case.toml"))
-	text := strings.NewReplacer("{{.nose_radius}}", "0.2", "{{.taper_angle}}", "10", "end_time = 100.0", "end_time = 1000.0").Replace(string(tpl))
+	text := strings.NewReplacer("{{.nose_radius}}", "0.2", "{{.taper_angle}}", "10", "end_time = 200.0", "end_time = 1000.0").Replace(string(tpl))
 	writeFile(t, filepath.Join(dir, "case.toml"), text, 0o644)
 	cmd := exec.Command(sweepBin, "flow2d", "case.toml")
 	cmd.Dir = dir
@@ -87,10 +91,11 @@ func TestShippedRecipes(t *testing.T) {
 }
 
 // Ensure that the demo study runs end to end with the built-in solver (at
-// a fifth of its length, to keep the test short).
+// a quarter of its length, to keep the test short), and that harvest and
+// rank give what scripts read.
 func TestDemoStudyRuns(t *testing.T) {
 	if testing.Short() {
-		t.Skip("runs nine solver cases (about 20 s)")
+		t.Skip("runs nine solver cases (about 30 s)")
 	}
 	dir := filepath.Join(t.TempDir(), "demo")
 	if err := recipes.Write("box-demo", dir); err != nil {
@@ -98,7 +103,7 @@ func TestDemoStudyRuns(t *testing.T) {
 	}
 	casef := filepath.Join(dir, "template", "case.toml")
 	b, _ := os.ReadFile(casef)
-	writeFile(t, casef, strings.Replace(string(b), "end_time = 100.0", "end_time = 20.0", 1), 0o644)
+	writeFile(t, casef, strings.Replace(string(b), "end_time = 200.0", "end_time = 50.0", 1), 0o644)
 	if _, errs, code := sweep(t, "plan", dir); code != 0 {
 		t.Fatalf("plan: %s", errs)
 	}
@@ -107,5 +112,71 @@ func TestDemoStudyRuns(t *testing.T) {
 	}
 	if s := status(t, dir); s.Counts.Done != 9 {
 		t.Errorf("counts %+v", s.Counts)
+	}
+	out, errs, code := sweep(t, "rank", dir, "--json")
+	if code != 0 {
+		t.Fatalf("rank: %s", errs)
+	}
+	var rows []map[string]any
+	if err := json.Unmarshal([]byte(out), &rows); err != nil {
+		t.Fatalf("rank --json: %v\n%s", err, out)
+	}
+	if len(rows) < 6 {
+		t.Fatalf("only %d variants ranked:\n%s", len(rows), out)
+	}
+	for _, k := range []string{"id", "label", "params", "mean", "half_width", "verdict", "group"} {
+		if _, ok := rows[0][k]; !ok {
+			t.Errorf("rank --json rows lack %q", k)
+		}
+	}
+	// Common practice: rounding a bluff body's front corners lowers its
+	// drag. The best variant has the largest nose radius (0.4 H).
+	if p := rows[0]["params"].(map[string]any); p["nose_radius"] != 0.4 {
+		t.Errorf("best variant %v", p)
+	}
+	csv, _, code := sweep(t, "harvest", dir, "--csv")
+	if code != 0 || !strings.HasPrefix(csv, "id,label,name,state,nose_radius,taper_angle,drag_mean") {
+		t.Errorf("harvest --csv: %d %q", code, csv)
+	}
+}
+
+// Ensure that sweep stats prints the fields scripts read and recovers the
+// mean of a known signal: a sinusoid of period 2.0 plus noise about 0.8,
+// with an exponential start-up transient (a history of our own making).
+func TestStatsJSON(t *testing.T) {
+	dir := t.TempDir()
+	var b strings.Builder
+	b.WriteString("# time Cd Cl\r\n")
+	rng := rand.New(rand.NewPCG(3, 5))
+	for i := range 40000 {
+		tm := float64(i) * 0.01
+		cd := 0.8 + 0.5*math.Exp(-tm/5) + 0.05*math.Sin(math.Pi*tm) + 0.01*rng.NormFloat64()
+		fmt.Fprintf(&b, "%.2f %.6f 0\r\n", tm, cd)
+	}
+	b.WriteString("400.00 0.8") // cut off mid-write
+	writeFile(t, filepath.Join(dir, "forces.dat"), b.String(), 0o644)
+	out, errs, code := sweep(t, "stats", filepath.Join(dir, "forces.dat"), "--column", "Cd", "--json")
+	if code != 0 {
+		t.Fatalf("stats: %d %s", code, errs)
+	}
+	var r map[string]any
+	if err := json.Unmarshal([]byte(out), &r); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"mean", "half_width", "samples", "effective_samples", "transient_end", "verdict"} {
+		if _, ok := r[k]; !ok {
+			t.Errorf("stats --json lacks %q", k)
+		}
+	}
+	mean, hw := r["mean"].(float64), r["half_width"].(float64)
+	if math.Abs(mean-0.8) > hw || hw <= 0 || hw > 0.008 {
+		t.Errorf("mean %.5f ± %.5f, true 0.8", mean, hw)
+	}
+	// The transient 0.5 e^(-t/5) is below the noise (0.01) after t ≈ 20.
+	if te := r["transient_end"].(float64); te < 10 || te > 200 {
+		t.Errorf("transient cut at %v", te)
+	}
+	if _, errs, code := sweep(t, "stats", filepath.Join(dir, "nothing.dat")); code == 0 || !strings.Contains(errs, "nothing.dat") {
+		t.Errorf("missing file: %d %q", code, errs)
 	}
 }

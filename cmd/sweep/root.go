@@ -31,7 +31,8 @@ Exit status:
 		SilenceErrors: true,
 	}
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError{err} })
-	root.AddCommand(newDemoCmd(), newNewCmd(), newPlanCmd(), newRunCmd(), newStatusCmd(), newResetCmd(), newFlow2dCmd())
+	root.AddCommand(newDemoCmd(), newNewCmd(), newPlanCmd(), newRunCmd(), newStatusCmd(), newResetCmd(),
+		newHarvestCmd(), newRankCmd(), newStatsCmd(), newFlow2dCmd())
 	return root
 }
 

@@ -18,12 +18,13 @@ import (
 
 // rawRecipe is the recipe file's shape. Unknown keys are refused.
 type rawRecipe struct {
-	Name        string     `toml:"name"`
-	Description string     `toml:"description"`
-	Case        rawCase    `toml:"case"`
-	Params      []rawParam `toml:"param"`
-	Design      rawDesign  `toml:"design"`
-	Stages      []rawStage `toml:"stage"`
+	Name        string        `toml:"name"`
+	Description string        `toml:"description"`
+	Case        rawCase       `toml:"case"`
+	Params      []rawParam    `toml:"param"`
+	Design      rawDesign     `toml:"design"`
+	Stages      []rawStage    `toml:"stage"`
+	Quantities  []rawQuantity `toml:"quantity"`
 }
 
 type rawCase struct {
@@ -53,14 +54,15 @@ type rawDesign struct {
 }
 
 type rawStage struct {
-	Name    string            `toml:"name"`
-	Run     string            `toml:"run"`
-	Shell   bool              `toml:"shell"`
-	Cores   *int              `toml:"cores"`
-	Timeout string            `toml:"timeout"`
-	Retries int               `toml:"retries"`
-	Dir     string            `toml:"dir"`
-	Env     map[string]string `toml:"env"`
+	Name      string            `toml:"name"`
+	Run       string            `toml:"run"`
+	Shell     bool              `toml:"shell"`
+	Cores     *int              `toml:"cores"`
+	Timeout   string            `toml:"timeout"`
+	Retries   int               `toml:"retries"`
+	Dir       string            `toml:"dir"`
+	Env       map[string]string `toml:"env"`
+	EarlyStop *rawEarlyStop     `toml:"early_stop"`
 }
 
 var identRE = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9_]*$`)
@@ -110,6 +112,7 @@ func Parse(path string, data []byte) (*Recipe, error) {
 	checkCase(pr, r, raw.Case)
 	checkParams(pr, r, raw.Params)
 	checkDesign(pr, r, raw.Design)
+	checkQuantities(pr, r, raw.Quantities)
 	checkStages(pr, r, raw.Stages)
 	if len(pr.list) > 0 {
 		return nil, pr.list
@@ -146,7 +149,7 @@ var typeErrRE = regexp.MustCompile(`cannot decode TOML (\w+) into struct field \
 
 // tomlName turns a raw struct field name back into its recipe key.
 func tomlName(field string) string {
-	for _, t := range []reflect.Type{reflect.TypeOf(rawRecipe{}), reflect.TypeOf(rawCase{}), reflect.TypeOf(rawParam{}), reflect.TypeOf(rawDesign{}), reflect.TypeOf(rawStage{})} {
+	for _, t := range []reflect.Type{reflect.TypeOf(rawRecipe{}), reflect.TypeOf(rawCase{}), reflect.TypeOf(rawParam{}), reflect.TypeOf(rawDesign{}), reflect.TypeOf(rawStage{}), reflect.TypeOf(rawQuantity{}), reflect.TypeOf(rawEarlyStop{})} {
 		if f, ok := t.FieldByName(field); ok {
 			return f.Tag.Get("toml")
 		}
@@ -524,6 +527,7 @@ func checkStages(pr *problems, r *Recipe, raws []rawStage) {
 			}
 			s.Argv = argv
 		}
+		checkEarlyStop(pr, r, key, &s, rs.EarlyStop)
 		r.Stages = append(r.Stages, s)
 	}
 }

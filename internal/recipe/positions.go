@@ -30,6 +30,7 @@ func keyLines(data []byte) map[string]int {
 		switch e.Kind {
 		case unstable.Table, unstable.ArrayTable:
 			k, first := joinKey(e.Key())
+			k = indexParents(k, count)
 			if e.Kind == unstable.ArrayTable {
 				i := count[k]
 				count[k]++
@@ -73,6 +74,27 @@ func elementLines(lines map[string]int, key string, v *unstable.Node, lineOf fun
 			}
 		}
 	}
+}
+
+// indexParents adds the current index to every enclosing array of
+// tables: after the second [[stage]], the header [stage.early_stop] is
+// "stage[1].early_stop".
+func indexParents(k string, count map[string]int) string {
+	parts := strings.Split(k, ".")
+	out := ""
+	plain := ""
+	for i, p := range parts {
+		if i > 0 {
+			out += "."
+			plain += "."
+		}
+		out += p
+		plain += p
+		if i < len(parts)-1 && count[plain] > 0 {
+			out += fmt.Sprintf("[%d]", count[plain]-1)
+		}
+	}
+	return out
 }
 
 func joinKey(it unstable.Iterator) (string, *unstable.Node) {

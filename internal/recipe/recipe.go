@@ -19,6 +19,7 @@ type Recipe struct {
 	Params      []Param
 	Design      Design
 	Stages      []Stage
+	Quantities  []Quantity
 }
 
 // Kind is the kind of a parameter.
@@ -70,7 +71,10 @@ type Stage struct {
 	Retries int
 	Dir     string            // working directory relative to the variant directory ("" = the variant directory)
 	Env     map[string]string // extra constant environment variables
-	Line    int
+	// EarlyStop, when set, stops the stage's solver once the named
+	// quantities' averages have converged.
+	EarlyStop *EarlyStop
+	Line      int
 }
 
 // Design says how the variants' points are chosen.

@@ -51,6 +51,8 @@ func ExecutorMain(in io.Reader, out io.Writer) int {
 			x.start(req)
 		case "stop":
 			x.stop(req.Token, time.Duration(req.Grace)*time.Millisecond)
+		case "signal":
+			x.signal(req.Token, req.Signal)
 		case "ack":
 			x.mu.Lock()
 			delete(x.exited, req.Token)
@@ -159,6 +161,20 @@ func (x *executor) start(req request) {
 		close(p.done)
 		x.send(ev)
 	}()
+}
+
+// signal sends a named signal (TERM, INT, HUP, USR1, USR2) to the job's
+// process group: the early stop of a solver that ends cleanly on it.
+func (x *executor) signal(token, name string) {
+	sig, ok := map[string]syscall.Signal{"TERM": syscall.SIGTERM, "INT": syscall.SIGINT, "HUP": syscall.SIGHUP,
+		"USR1": syscall.SIGUSR1, "USR2": syscall.SIGUSR2}[name]
+	x.mu.Lock()
+	p := x.procs[token]
+	x.mu.Unlock()
+	if p == nil || !ok {
+		return
+	}
+	syscall.Kill(-p.cmd.Process.Pid, sig)
 }
 
 // stop sends SIGTERM to the job's process group and SIGKILL after grace.

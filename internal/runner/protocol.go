@@ -4,7 +4,7 @@ package runner
 
 // request is sent by the runner to the executor.
 type request struct {
-	Op     string   `json:"op"` // "start", "stop", "ack"
+	Op     string   `json:"op"` // "start", "stop", "signal", "ack"
 	Token  string   `json:"token"`
 	Argv   []string `json:"argv,omitempty"`
 	Env    []string `json:"env,omitempty"`
@@ -12,6 +12,7 @@ type request struct {
 	Log    string   `json:"log,omitempty"`
 	Header string   `json:"header,omitempty"` // written to the log before the process starts
 	Grace  int64    `json:"grace_ms,omitempty"`
+	Signal string   `json:"signal,omitempty"` // for "signal": TERM, INT, HUP, USR1, USR2
 }
 
 // event is sent by the executor to the runner.

@@ -86,7 +86,7 @@ func Run(ctx context.Context, r *recipe.Recipe, opts Options) (*Snapshot, error)
 	if err != nil {
 		return nil, err
 	}
-	d := &dispatcher{r: r, st: st, q: q, x: x, opts: opts, exe: exe, free: opts.Cores, running: map[string]*active{}, start: time.Now()}
+	d := &dispatcher{r: r, st: st, q: q, x: x, opts: opts, exe: exe, free: opts.Cores, running: map[string]*active{}, start: time.Now(), checks: make(chan check, 64)}
 	runErr := d.loop(ctx)
 	if cerr := x.close(); runErr == nil && cerr != nil {
 		runErr = cerr
@@ -108,6 +108,14 @@ type active struct {
 	stopping  bool
 	timedOut  bool
 	interrupt bool
+
+	// Early stop: when the averages were last checked, whether a check
+	// runs now, and whether the job was asked to stop because they have
+	// converged (graceEnd: deadline is then the end of its grace period).
+	lastCheck    time.Time
+	checking     bool
+	earlyStopped bool
+	graceEnd     bool
 }
 
 type dispatcher struct {
@@ -120,6 +128,7 @@ type dispatcher struct {
 	free    int
 	running map[string]*active
 	start   time.Time
+	checks  chan check
 
 	finished  int           // jobs ended this run
 	busy      time.Duration // summed run time of jobs ended this run
@@ -148,8 +157,8 @@ func (d *dispatcher) loop(ctx context.Context) error {
 				heap.Pop(d.q)
 				d.free -= s.Cores
 				j.State, j.Token, j.PID, j.Cores = store.Running, uuid.NewString(), 0, s.Cores
-				j.Started, j.Ended, j.Reason = time.Now().UTC(), time.Time{}, ""
-				a := &active{job: j, vs: vs, stage: s}
+				j.Started, j.Ended, j.Reason, j.EarlyStop = time.Now().UTC(), time.Time{}, "", ""
+				a := &active{job: j, vs: vs, stage: s, lastCheck: time.Now()}
 				if s.Timeout > 0 {
 					a.deadline = time.Now().Add(s.Timeout)
 				}
@@ -202,6 +211,9 @@ func (d *dispatcher) loop(ctx context.Context) error {
 			}
 		case <-timer:
 			d.expire()
+			d.startChecks(time.Now())
+		case c := <-d.checks:
+			d.onCheck(c)
 		case <-tick.C:
 		case <-cancelled:
 			cancelled = nil
@@ -246,7 +258,7 @@ func (d *dispatcher) end(a *active, ev event) {
 	d.coreTime += ran * time.Duration(a.stage.Cores)
 	j.Attempts++
 	j.ExitCode = ev.Code
-	if ev.Code == 0 && ev.Err == "" && !a.timedOut {
+	if a.earlyStopped || (ev.Code == 0 && ev.Err == "" && !a.timedOut) {
 		j.State, j.Reason, j.Tail = store.Done, "", nil
 		if a.vs.next() != nil {
 			heap.Push(d.q, a.vs)
@@ -310,6 +322,9 @@ func (d *dispatcher) nextDeadline() (time.Time, bool) {
 		if !a.deadline.IsZero() && !a.stopping && (dl.IsZero() || a.deadline.Before(dl)) {
 			dl = a.deadline
 		}
+		if c := a.nextCheck(); !c.IsZero() && (dl.IsZero() || c.Before(dl)) {
+			dl = c
+		}
 	}
 	return dl, !dl.IsZero()
 }
@@ -318,7 +333,7 @@ func (d *dispatcher) expire() {
 	now := time.Now()
 	for _, a := range d.running {
 		if !a.deadline.IsZero() && !a.stopping && !now.Before(a.deadline) {
-			a.timedOut = true
+			a.timedOut = !a.graceEnd
 			d.stop(a)
 		}
 	}

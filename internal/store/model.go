@@ -3,6 +3,7 @@ package store
 import (
 	"time"
 
+	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 )
 
@@ -54,8 +55,17 @@ type Job struct {
 	ExitCode   int       `json:"exit_code,omitempty"`
 	Reason     string    `json:"reason,omitempty"` // why it failed, or why it was re-queued
 	Tail       []string  `json:"tail,omitempty"`   // last lines of the log of a failed run
+	// EarlyStop says why the run was stopped early once its averages had
+	// converged ("" when it ran to its own end).
+	EarlyStop string `json:"early_stop,omitempty"`
 }
 
 // Key returns the job's database key: the variant's sequence number and
 // the stage index, so a scan visits jobs in variant order, stages in order.
 func (j *Job) Key() []byte { return jobKey(j.Variant, j.Index) }
+
+// Results is a variant's last harvest: each quantity's averaged result.
+type Results struct {
+	Harvested  time.Time                 `json:"harvested"`
+	Quantities map[string]harvest.Result `json:"quantities"`
+}

@@ -20,6 +20,7 @@ var (
 	bucketVariants = []byte("variants")
 	bucketJobs     = []byte("jobs")
 	bucketKeys     = []byte("keys") // point key (name or values) -> variant seq
+	bucketResults  = []byte("results")
 	keyStudy       = []byte("study")
 )
 
@@ -67,7 +68,7 @@ func Open(studyDir string, opts Options) (*Store, error) {
 		return nil, err
 	}
 	err = db.Update(func(tx *bolt.Tx) error {
-		for _, b := range [][]byte{bucketMeta, bucketVariants, bucketJobs, bucketKeys} {
+		for _, b := range [][]byte{bucketMeta, bucketVariants, bucketJobs, bucketKeys, bucketResults} {
 			if _, err := tx.CreateBucketIfNotExists(b); err != nil {
 				return err
 			}
@@ -235,6 +236,23 @@ func (t *Tx) Jobs(fn func(Job) error) error {
 		return fn(j)
 	})
 }
+
+// Results returns a variant's last harvest.
+func (t *Tx) Results(seq uint64) (Results, bool, error) {
+	var r Results
+	b := t.tx.Bucket(bucketResults)
+	if b == nil {
+		return r, false, nil
+	}
+	v := b.Get(seqKey(seq))
+	if v == nil {
+		return r, false, nil
+	}
+	return r, true, json.Unmarshal(v, &r)
+}
+
+// PutResults records a variant's harvest.
+func (t *Tx) PutResults(seq uint64, r Results) error { return t.put(bucketResults, seqKey(seq), r) }
 
 func (t *Tx) put(bucket, key []byte, v any) error {
 	b, err := json.Marshal(v)

@@ -1,9 +1,12 @@
 package ui
 
 import (
+	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 	"strings"
 	"text/tabwriter"
 )
@@ -24,3 +27,27 @@ func JSON(w io.Writer, v any) error {
 	enc.SetIndent("", "  ")
 	return enc.Encode(v)
 }
+
+// CSV writes rows as CSV.
+func CSV(w io.Writer, rows [][]string) error {
+	cw := csv.NewWriter(w)
+	cw.WriteAll(rows)
+	return cw.Error()
+}
+
+// PlusMinus formats a mean and a half-width with digits to match the
+// half-width's size: 0.5712 ± 0.0031.
+func PlusMinus(mean, hw float64) string {
+	if hw <= 0 || math.IsNaN(hw) || math.IsInf(hw, 0) {
+		return strconv.FormatFloat(mean, 'g', 6, 64)
+	}
+	// Two significant digits of the half-width set the decimals.
+	dec := max(0, 1-int(math.Floor(math.Log10(hw))))
+	if dec > 12 {
+		dec = 12
+	}
+	return fmt.Sprintf("%.*f ± %.*f", dec, mean, dec, hw)
+}
+
+// Caution is printed under every table of results.
+const Caution = "results need validation (mesh and time-step checks, review by qualified people); local codes and licensed practice prevail"

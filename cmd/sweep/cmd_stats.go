@@ -1,0 +1,110 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"path/filepath"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/ui"
+)
+
+type statsOptions struct {
+	column  string
+	time    string
+	comment string
+	abs     float64
+	rel     float64
+	start   float64
+	json    bool
+}
+
+func newStatsCmd() *cobra.Command {
+	var opts statsOptions
+	cmd := &cobra.Command{
+		Use:   "stats FILE",
+		Short: "Has my run converged? Analyse one history file",
+		Long: `stats reads one history file (whitespace or comma separated columns; lines
+starting with the comment marker are comments, the last of them naming the
+columns), removes the initial transient (MSER-5), and prints the mean of a
+column with its 95 % confidence interval, the samples and effective samples
+used, the time where averaging starts, the shedding period when there is
+one, and a verdict against the tolerance.`,
+		Args: func(cmd *cobra.Command, args []string) error {
+			if len(args) != 1 {
+				return usageError{errors.New("stats needs one history file, for example: sweep stats forces.dat --column Cd")}
+			}
+			return nil
+		},
+		RunE: func(cmd *cobra.Command, args []string) error {
+			q := harvest.Quantity{Files: globEscape(filepath.Base(args[0])), Comment: opts.comment}
+			if err := q.Time.UnmarshalTOML(opts.time); err != nil {
+				return usageError{fmt.Errorf("--time: %w", err)}
+			}
+			var t harvest.Term
+			if err := t.UnmarshalTOML(opts.column); err != nil {
+				return usageError{fmt.Errorf("--column: %w", err)}
+			}
+			q.Value = []harvest.Term{t}
+			o := harvest.Options{Abs: opts.abs, Rel: opts.rel}
+			if cmd.Flags().Changed("start") {
+				o.Start = &opts.start
+			}
+			if o.Abs < 0 || o.Rel < 0 {
+				return usageError{errors.New("tolerances cannot be negative")}
+			}
+			res, err := harvest.Harvest(filepath.Dir(args[0]), q, o)
+			out := cmd.OutOrStdout()
+			if opts.json {
+				if jerr := ui.JSON(out, res); jerr != nil {
+					return jerr
+				}
+			} else {
+				printStats(out, args[0], opts.column, res)
+			}
+			if err != nil {
+				return err
+			}
+			if res.Verdict == harvest.Failed {
+				return fmt.Errorf("no usable average: %s", res.Message)
+			}
+			return nil
+		},
+	}
+	cmd.Flags().StringVar(&opts.column, "column", "2", "the column to average: a 1-based index or a header name")
+	cmd.Flags().StringVar(&opts.time, "time", "1", "the time column: a 1-based index or a header name")
+	cmd.Flags().StringVar(&opts.comment, "comment", "#", "the comment marker")
+	cmd.Flags().Float64Var(&opts.abs, "tolerance", 0, "absolute tolerance on the 95% half-width")
+	cmd.Flags().Float64Var(&opts.rel, "relative-tolerance", 0, "tolerance on the half-width relative to |mean| (default 0.01 when no tolerance is given)")
+	cmd.Flags().Float64Var(&opts.start, "start", 0, "average from this time on instead of detecting the transient")
+	cmd.Flags().BoolVar(&opts.json, "json", false, "print the analysis as JSON")
+	return cmd
+}
+
+// globEscape quotes the characters filepath.Match treats specially, so a
+// file name is matched literally.
+func globEscape(s string) string {
+	r := strings.NewReplacer(`\`, `\\`, `*`, `\*`, `?`, `\?`, `[`, `\[`)
+	return r.Replace(s)
+}
+
+func printStats(w interface{ Write([]byte) (int, error) }, file, column string, r harvest.Result) {
+	fmt.Fprintf(w, "%s, column %s\n", file, column)
+	if r.Verdict == harvest.Failed {
+		fmt.Fprintf(w, "  verdict      failed: %s\n", r.Message)
+		return
+	}
+	rows := [][]string{
+		{"  mean", ui.PlusMinus(r.Mean, r.HalfWidth) + fmt.Sprintf("  (%.0f%% confidence interval)", 100*r.Confidence)},
+		{"  samples", fmt.Sprintf("%d used of the run, %.0f effective (correlation time %.3g)", r.Samples, r.EffectiveSamples, r.CorrelationTime)},
+		{"  averaged from", fmt.Sprintf("%.6g (transient removed: %s)", r.TransientEnd, r.TransientMethod)},
+	}
+	if r.Period > 0 {
+		rows = append(rows, []string{"  period", fmt.Sprintf("%.4g (%d periods averaged)", r.Period, r.Periods)})
+	}
+	rows = append(rows, []string{"  verdict", verdictNote(r.Verdict, r.ExtraTime) + "  " + r.Message})
+	ui.Table(w, rows)
+}

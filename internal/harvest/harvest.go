@@ -1,0 +1,56 @@
+package harvest
+
+import (
+	"errors"
+	"fmt"
+)
+
+// Harvest reads the history of q in the variant directory dir (see
+// ReadSeries) and analyses it (see Analyze). The Result is always usable:
+// on a read error its verdict is Failed, its message is the error's text,
+// and the error is returned as well so that callers can test it with
+// errors.Is (ErrNonFinite, for instance, marks a diverged run).
+func Harvest(dir string, q Quantity, opts Options) (Result, error) {
+	s, err := ReadSeries(dir, q)
+	if err != nil {
+		r := Result{Verdict: Failed, Message: err.Error(), Confidence: opts.withDefaults().Confidence}
+		if s != nil {
+			r.Files, r.Overlaps, r.Notes = s.Files, s.Overlaps, s.Notes
+		}
+		return r, err
+	}
+	r := Analyze(s.Time, s.Value, opts)
+	r.Files = s.Files
+	r.Overlaps = s.Overlaps
+	r.Notes = append(s.Notes, r.Notes...)
+	if len(s.Overlaps) > 0 && r.Verdict != Failed {
+		r.Message += fmt.Sprintf(" (%d restart overlap(s) resolved, later file kept)", len(s.Overlaps))
+	}
+	return r, nil
+}
+
+// EarlyStop is meant for a runner that polls a running case: it harvests
+// the history so far and reports whether the average already meets the
+// tolerance (verdict Converged or Steady), so the case may be stopped.
+// opts.MinSamples sets the least number of samples averaged after the
+// transient (or, for a steady signal, in the whole history) before a stop.
+//
+// A history that does not exist yet or holds no data row is not an error
+// here: stop is false and the Result says why. Other read errors are
+// returned; ErrNonFinite means the run has diverged.
+//
+// Each call re-reads the files from the start, which costs well under a
+// second for a history of tens of MB (see BenchmarkReadHistory) and is
+// negligible beside a solver's time step. Incremental reading (keeping
+// each file's offset and the last complete line) would be easy to add if
+// polling ever became a burden; the statistics would still be recomputed.
+func EarlyStop(dir string, q Quantity, opts Options) (stop bool, r Result, err error) {
+	r, err = Harvest(dir, q, opts)
+	if errors.Is(err, ErrNoFiles) || errors.Is(err, ErrNoData) {
+		return false, r, nil
+	}
+	if err != nil {
+		return false, r, err
+	}
+	return r.Verdict == Converged || r.Verdict == Steady, r, nil
+}

@@ -1,0 +1,324 @@
+package harvest
+
+import (
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/stat"
+)
+
+func seq(n int) []float64 {
+	t := make([]float64, n)
+	for i := range t {
+		t[i] = float64(i)
+	}
+	return t
+}
+
+// Ensure that MSER-5 keeps a constant series whole: MSER(d) = 0 for every
+// d, and ties go to the smallest d (the definition in White 1997 /
+// Spratt 1998; the kim-convergence implementation returns 0 too).
+func TestMSER5Constant(t *testing.T) {
+	for _, c := range []float64{0, 1, 0.1, -3.7e5} {
+		y := make([]float64, 1003)
+		for i := range y {
+			y[i] = c
+		}
+		if got := MSER5(y); got != 0 {
+			t.Errorf("constant %v: MSER5 = %d, want 0", c, got)
+		}
+	}
+}
+
+// Ensure that MSER-5 cuts a clean step exactly at its end. Derived by hand
+// from the definition: y = 1 for the first 100 samples and 0 for the next
+// 900 gives batch means Z = 1 for j < 20 and 0 after, so MSER(20) = 0 while
+// MSER(d) > 0 for d < 20 (the remaining batches are not all equal);
+// 20 ≤ k/2 = 100, so d* = 20 and 100 samples go.
+func TestMSER5Step(t *testing.T) {
+	y := make([]float64, 1000)
+	for i := range 100 {
+		y[i] = 1
+	}
+	if got := MSER5(y); got != 100 {
+		t.Errorf("MSER5 = %d, want 100", got)
+	}
+}
+
+// Ensure that the search stops at half the run. For a ramp y_i = i the
+// batch means are Z_j = 5j + 2 and, by hand, MSER(d) = 25((k−d)² − 1) /
+// (12 (k−d)), which falls with d: the minimum is at the limit d = ⌊k/2⌋.
+func TestMSER5HalfRunLimit(t *testing.T) {
+	y := seq(1000) // k = 200
+	d, atLimit := mser(y, 5)
+	if d != 100 || !atLimit {
+		t.Errorf("ramp: d* = %d (at limit %v), want 100 at the limit", d, atLimit)
+	}
+	if got := MSER5(y); got != 500 {
+		t.Errorf("ramp: MSER5 = %d, want 500", got)
+	}
+}
+
+// Ensure that τ_int of AR(1) noise matches the analytic (1+φ)/(1−φ)
+// (textbook result, e.g. Sokal 1997, sec. 3) within 10 % for long series.
+// The estimator's relative standard deviation is √(2(2M+1)/n) (Madras and
+// Sokal 1988): 0.6 %, 1.5 % and 4.8 % for the three cases at n = 2^20, so
+// 10 % is at least two standard deviations.
+func TestIntegratedTimeAR1(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 1))
+	n := 1 << 20
+	for _, phi := range []float64{0, 0.5, 0.9, 0.99} {
+		x := ar1(rng, n, phi, 1)
+		tau, w, dof, ok := IntegratedTime(x)
+		want := (1 + phi) / (1 - phi)
+		t.Logf("φ = %v: τ = %.3f (analytic %.3f), window %d, dof %.0f", phi, tau, want, w, dof)
+		if !ok {
+			t.Errorf("φ = %v: no self-consistent window", phi)
+		}
+		if math.Abs(tau/want-1) > 0.10 {
+			t.Errorf("φ = %v: τ = %.3f, want %.3f ± 10 %%", phi, tau, want)
+		}
+	}
+}
+
+// Ensure that the blocked estimate used for very long series agrees with
+// the analytic long-run variance σ²τ = s²(1+φ)/((1−φ)(1−φ²)) of AR(1)
+// noise (textbook, as above), within 10 %.
+func TestCorrelationBlocked(t *testing.T) {
+	rng := rand.New(rand.NewPCG(2, 2))
+	phi := 0.9
+	x := ar1(rng, 3*maxACFLength+7, phi, 1) // blocks of 4
+	c := correlation(x)
+	tau, period, lrv := c.tau, c.period, c.lrv
+	want := (1 + phi) / (1 - phi) / (1 - phi*phi)
+	if math.Abs(lrv/want-1) > 0.10 {
+		t.Errorf("long-run variance %.3f, want %.3f ± 10 %%", lrv, want)
+	}
+	if math.Abs(tau/((1+phi)/(1-phi))-1) > 0.10 {
+		t.Errorf("τ = %.3f, want %.3f ± 10 %%", tau, (1+phi)/(1-phi))
+	}
+	if period != 0 {
+		t.Errorf("AR(1) noise reported a period %v", period)
+	}
+}
+
+// Ensure that the mean and variance agree with gonum's stat package
+// (two-pass formulas), rel 1e-12.
+func TestMeanVarianceGonum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 3))
+	for _, n := range []int{2, 3, 10, 1000, 100001} {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = 1e6 + rng.NormFloat64()
+		}
+		m, v := meanVariance(x)
+		gm, gv := stat.MeanVariance(x, nil)
+		if math.Abs(m-gm) > 1e-12*math.Abs(gm) || math.Abs(v-gv) > 1e-12*gv {
+			t.Errorf("n = %d: (%v, %v), gonum (%v, %v)", n, m, v, gm, gv)
+		}
+	}
+}
+
+// Ensure that a period is found and sharpened: a sinusoid of period 137.3
+// samples in AR(1) noise (φ = 0.5) is recovered within 0.05 %, and 60
+// series of AR(1) noise alone (φ = 0.9) show none. The tolerance: the
+// phase drift between the two halves fixes the frequency to about
+// σ/(A·n^{3/2}) radians per sample, far below it.
+func TestPeriodDetection(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 4))
+	const p = 137.3
+	for k := 0; k < 5; k++ {
+		x := ar1(rng, 20000, 0.5, 0.5)
+		ph := rng.Float64() * 2 * math.Pi
+		for i := range x {
+			x[i] += math.Sin(2*math.Pi*float64(i)/p + ph)
+		}
+		got := correlation(x).period
+		if math.Abs(got/p-1) > 5e-4 {
+			t.Errorf("period %.4f, want %v ± 0.05 %%", got, p)
+		}
+	}
+	for k := 0; k < 60; k++ {
+		if got := correlation(ar1(rng, 20000, 0.9, 1)).period; got != 0 {
+			t.Errorf("AR(1) noise: spurious period %.1f", got)
+		}
+	}
+}
+
+// Ensure that uneven steps give a time average: on any grid, linear
+// interpolation of y = a + b t onto an even grid reproduces the line, so the
+// sample mean equals a + b (t_0 + t_end)/2 exactly (plain calculus).
+func TestUniformGridTimeAverage(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 5))
+	tt := []float64{0}
+	for len(tt) < 5000 {
+		tt = append(tt, tt[len(tt)-1]+0.001+0.01*rng.Float64())
+	}
+	y := make([]float64, len(tt))
+	for i, v := range tt {
+		y[i] = 2 + 3*v
+	}
+	ys, dt, resampled := uniformGrid(tt, y)
+	if !resampled {
+		t.Fatal("uneven steps not resampled")
+	}
+	m, _ := meanVariance(ys)
+	want := 2 + 3*(tt[0]+tt[len(tt)-1])/2
+	if math.Abs(m-want) > 1e-9*want {
+		t.Errorf("time average %v, want %v", m, want)
+	}
+	if math.Abs(dt-(tt[len(tt)-1]-tt[0])/float64(len(tt)-1)) > 1e-15 {
+		t.Errorf("step %v", dt)
+	}
+	// Even steps are left alone.
+	even := seq(100)
+	if _, _, r := uniformGrid(even, even); r {
+		t.Error("even steps resampled")
+	}
+}
+
+// Ensure that a settled history (a steady solution approached
+// exponentially, as iterative solvers do) is reported steady with its last
+// value; the drift over the last quarter is derived by hand below.
+func TestAnalyzeSteady(t *testing.T) {
+	n := 4000
+	y := make([]float64, n)
+	for i := range y {
+		y[i] = 0.3 + 0.2*math.Exp(-float64(i)/200)
+	}
+	r := Analyze(seq(n), y, Options{Rel: 1e-3})
+	if r.Verdict != Steady {
+		t.Fatalf("verdict %s (%s), want steady", r.Verdict, r.Message)
+	}
+	if r.Mean != y[n-1] || r.Last != y[n-1] {
+		t.Errorf("mean %v, last %v, want %v", r.Mean, r.Last, y[n-1])
+	}
+	// Over the last 1000 samples the curve falls by
+	// 0.2 (e^{−15} − e^{−19.995}) ≈ 6.1e−8; a fitted line sees about that.
+	if r.Drift > 0 || r.Drift < -1e-7 {
+		t.Errorf("drift %v, want about −6e−8", r.Drift)
+	}
+	if r.HalfWidth > r.Tolerance {
+		t.Errorf("bound %v above tolerance %v", r.HalfWidth, r.Tolerance)
+	}
+}
+
+// Ensure that a too-uncertain average says so and that the time it asks
+// for is about right: rerunning with that length meets the tolerance. The
+// half-width falls like 1/√N (common practice); with 36 effective batches
+// of randomness the check allows 25 %.
+func TestAnalyzeNotConvergedNeededTime(t *testing.T) {
+	rng := rand.New(rand.NewPCG(6, 6))
+	n := 20000
+	x := ar1(rng, n, 0.9, 1)
+	for i := range x {
+		x[i] += 10
+	}
+	opts := Options{Rel: 0.002}
+	r := Analyze(seq(n), x, opts)
+	if r.Verdict != NotConverged {
+		t.Fatalf("verdict %s, want not_converged", r.Verdict)
+	}
+	if r.NeededTime <= float64(r.Samples) || r.ExtraTime <= 0 {
+		t.Fatalf("needed %v, extra %v", r.NeededTime, r.ExtraTime)
+	}
+	long := ar1(rng, int(r.NeededTime)+n, 0.9, 1)
+	for i := range long {
+		long[i] += 10
+	}
+	r2 := Analyze(seq(len(long)), long, opts)
+	if r2.HalfWidth > 1.25*r2.Tolerance {
+		t.Errorf("with the asked length the half-width is %v, tolerance %v", r2.HalfWidth, r2.Tolerance)
+	}
+}
+
+// Ensure that unusable histories fail with a reason.
+func TestAnalyzeFailed(t *testing.T) {
+	nan := seq(500)
+	nan[300] = math.NaN()
+	late := 1e9
+	cases := []struct {
+		name string
+		t, y []float64
+		opts Options
+		msg  string
+	}{
+		{"empty", nil, nil, Options{}, "no data"},
+		{"one", []float64{0}, []float64{1}, Options{}, "too short"},
+		{"nan", seq(500), nan, Options{}, "non-finite"},
+		{"short", seq(60), ar1(rand.New(rand.NewPCG(7, 7)), 60, 0.5, 1), Options{}, "too short"},
+		{"start", seq(500), ar1(rand.New(rand.NewPCG(8, 8)), 500, 0.5, 1), Options{Start: &late}, "after the last sample"},
+		{"correlated", seq(2000), ar1(rand.New(rand.NewPCG(9, 9)), 2000, 0.995, 1), Options{}, "correlation times"},
+	}
+	for _, c := range cases {
+		r := Analyze(c.t, c.y, c.opts)
+		if r.Verdict != Failed || !strings.Contains(r.Message, c.msg) {
+			t.Errorf("%s: verdict %s, message %q, want failed with %q", c.name, r.Verdict, r.Message, c.msg)
+		}
+	}
+}
+
+// Ensure that a fixed start time is honoured.
+func TestAnalyzeFixedStart(t *testing.T) {
+	rng := rand.New(rand.NewPCG(10, 10))
+	x := ar1(rng, 5000, 0.5, 1)
+	start := 1234.5
+	r := Analyze(seq(5000), x, Options{Start: &start, Abs: 1})
+	if r.TransientEnd != 1235 || r.TransientMethod != "fixed" || r.Samples != 5000-1235 {
+		t.Errorf("transient end %v (%s), samples %d", r.TransientEnd, r.TransientMethod, r.Samples)
+	}
+	m, _ := meanVariance(x[1235:])
+	if r.Mean != m {
+		t.Errorf("mean %v, want %v", r.Mean, m)
+	}
+}
+
+// Ensure that every verdict encodes to JSON with the names scripts read.
+func TestResultJSON(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 11))
+	x := ar1(rng, 20000, 0.5, 1)
+	steady := make([]float64, 1000)
+	for i := range steady {
+		steady[i] = 1
+	}
+	for _, r := range []Result{
+		Analyze(seq(20000), x, Options{Abs: 1}),
+		Analyze(seq(20000), x, Options{Abs: 1e-6}),
+		Analyze(seq(1000), steady, Options{}),
+		Analyze(nil, nil, Options{}),
+	} {
+		b, err := json.Marshal(r)
+		if err != nil {
+			t.Fatalf("%s: %v", r.Verdict, err)
+		}
+		var m map[string]any
+		if err := json.Unmarshal(b, &m); err != nil {
+			t.Fatal(err)
+		}
+		for _, k := range []string{"mean", "half_width", "samples", "effective_samples", "transient_end", "verdict"} {
+			if _, ok := m[k]; !ok {
+				t.Errorf("%s: JSON lacks %q: %s", r.Verdict, k, b)
+			}
+		}
+	}
+}
+
+// BenchmarkAnalyze analyses 140,000 samples of AR(1) noise (φ = 0.9) with
+// a transient, the length of the 10 MB history of BenchmarkReadHistory.
+func BenchmarkAnalyze(b *testing.B) {
+	rng := rand.New(rand.NewPCG(13, 13))
+	n := 140000
+	x := ar1(rng, n, 0.9, 1)
+	for i := range x {
+		x[i] += 1 + 10*math.Exp(-float64(i)/2000)
+	}
+	tt := seq(n)
+	for b.Loop() {
+		if r := Analyze(tt, x, Options{}); r.Verdict == Failed {
+			b.Fatal(r.Message)
+		}
+	}
+}

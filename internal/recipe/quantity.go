@@ -1,0 +1,213 @@
+package recipe
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/sweep-cfd/sweep/internal/harvest"
+)
+
+// Quantity is a harvested quantity: where its history lives in a variant
+// directory, how its columns become a value, and how it is judged.
+type Quantity struct {
+	Name string
+	Unit string
+	// Goal is "minimize" or "maximize" for an objective, "" otherwise.
+	Goal string
+	Spec harvest.Quantity
+	Opts harvest.Options
+	Line int
+}
+
+// EarlyStop says when and how a stage's solver is stopped once its
+// averages have converged.
+type EarlyStop struct {
+	Quantities []string      // every one must have converged
+	Every      time.Duration // how often the history is analysed
+	MinSamples int           // least number of averaged samples
+	By         string        // "signal", "file" or "command"
+	Signal     string        // for "signal": TERM, INT, HUP, USR1 or USR2
+	File       string        // for "file": created in the stage's directory
+	Command    []string      // for "command": run in the stage's directory
+}
+
+type rawQuantity struct {
+	Name         string   `toml:"name"`
+	Unit         string   `toml:"unit"`
+	Files        string   `toml:"files"`
+	Time         any      `toml:"time"`
+	Value        any      `toml:"value"`
+	Comment      string   `toml:"comment"`
+	Scale        rawScale `toml:"scale"`
+	Goal         string   `toml:"goal"`
+	Tolerance    float64  `toml:"tolerance"`
+	RelTolerance float64  `toml:"relative_tolerance"`
+	Start        *float64 `toml:"start"`
+}
+
+type rawScale struct {
+	Factor    float64 `toml:"factor"`
+	Density   float64 `toml:"density"`
+	Speed     float64 `toml:"speed"`
+	Reference float64 `toml:"reference"`
+}
+
+type rawEarlyStop struct {
+	Quantities []string `toml:"quantities"`
+	Every      string   `toml:"every"`
+	MinSamples int      `toml:"min_samples"`
+	By         string   `toml:"by"`
+	Signal     string   `toml:"signal"`
+	File       string   `toml:"file"`
+	Command    string   `toml:"command"`
+}
+
+// Signals a recipe may name for an early stop.
+var stopSignals = []string{"TERM", "INT", "HUP", "USR1", "USR2"}
+
+func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
+	seen := map[string]bool{}
+	for i, rq := range raws {
+		key := fmt.Sprintf("quantity[%d]", i)
+		q := Quantity{Name: rq.Name, Unit: rq.Unit, Goal: rq.Goal, Line: pr.line(key)}
+		switch {
+		case rq.Name == "":
+			pr.at(key, "quantity %d has no name: add name = \"drag\" (or similar)", i+1)
+		case !identRE.MatchString(rq.Name):
+			pr.at(key+".name", "quantity name %q must start with a letter and use only letters, digits and _", rq.Name)
+		case seen[rq.Name]:
+			pr.at(key+".name", "quantity %q is declared twice", rq.Name)
+		}
+		seen[rq.Name] = true
+		if rq.Goal != "" && rq.Goal != "minimize" && rq.Goal != "maximize" {
+			pr.at(key+".goal", "quantity %q: goal must be \"minimize\" or \"maximize\" (got %q)", rq.Name, rq.Goal)
+		}
+		q.Spec = harvest.Quantity{Files: rq.Files, Comment: rq.Comment,
+			Scale: harvest.Scale{Factor: rq.Scale.Factor, Density: rq.Scale.Density, Speed: rq.Scale.Speed, Reference: rq.Scale.Reference}}
+		if rq.Files == "" {
+			pr.at(key, "quantity %q needs files = \"GLOB\": the history files, relative to the variant directory", rq.Name)
+		}
+		if rq.Time != nil {
+			if err := q.Spec.Time.UnmarshalTOML(rq.Time); err != nil {
+				pr.at(key+".time", "quantity %q: time: %v", rq.Name, err)
+			}
+		}
+		switch v := rq.Value.(type) {
+		case nil:
+			pr.at(key, "quantity %q needs value = a column (\"Cd\" or 3) or a list of columns to sum", rq.Name)
+		case []any:
+			for j, x := range v {
+				var t harvest.Term
+				if err := t.UnmarshalTOML(x); err != nil {
+					pr.at(fmt.Sprintf("%s.value[%d]", key, j), "quantity %q: value %d: %v", rq.Name, j+1, err)
+				}
+				q.Spec.Value = append(q.Spec.Value, t)
+			}
+		default:
+			var t harvest.Term
+			if err := t.UnmarshalTOML(v); err != nil {
+				pr.at(key+".value", "quantity %q: value: %v", rq.Name, err)
+			}
+			q.Spec.Value = []harvest.Term{t}
+		}
+		if rq.Files != "" && rq.Value != nil {
+			if err := q.Spec.Validate(); err != nil {
+				pr.at(key, "quantity %q: %v", rq.Name, err)
+			}
+		}
+		if rq.Tolerance < 0 || rq.RelTolerance < 0 {
+			pr.at(key, "quantity %q: tolerances cannot be negative", rq.Name)
+		}
+		q.Opts = harvest.Options{Abs: max(rq.Tolerance, 0), Rel: max(rq.RelTolerance, 0), Start: rq.Start}
+		r.Quantities = append(r.Quantities, q)
+	}
+}
+
+func checkEarlyStop(pr *problems, r *Recipe, key string, s *Stage, raw *rawEarlyStop) {
+	if raw == nil {
+		return
+	}
+	key += ".early_stop"
+	es := &EarlyStop{Quantities: raw.Quantities, MinSamples: raw.MinSamples, By: raw.By, Signal: raw.Signal, File: raw.File, Every: 30 * time.Second}
+	if len(es.Quantities) == 0 {
+		pr.at(key, "stage %q: early_stop needs quantities = [\"...\"], the quantities whose averages must converge", s.Name)
+	}
+	for _, name := range es.Quantities {
+		if r.Quantity(name) == nil {
+			pr.at(key+".quantities", "stage %q: early_stop names %q, which is not a declared [[quantity]]", s.Name, name)
+		}
+	}
+	if raw.Every != "" {
+		d, err := time.ParseDuration(raw.Every)
+		if err != nil || d <= 0 {
+			pr.at(key+".every", "stage %q: every %q is not a positive duration; write it like \"20s\"", s.Name, raw.Every)
+		}
+		es.Every = d
+	}
+	if es.MinSamples < 0 {
+		pr.at(key+".min_samples", "stage %q: min_samples cannot be negative", s.Name)
+	}
+	if es.By == "" {
+		es.By = "signal"
+	}
+	switch es.By {
+	case "signal":
+		if es.Signal == "" {
+			es.Signal = "TERM"
+		}
+		es.Signal = strings.TrimPrefix(strings.ToUpper(es.Signal), "SIG")
+		if !slices.Contains(stopSignals, es.Signal) {
+			pr.at(key+".signal", "stage %q: signal %q is not one of %s", s.Name, raw.Signal, strings.Join(stopSignals, ", "))
+		}
+	case "file":
+		if es.File == "" || strings.HasPrefix(es.File, "/") || strings.HasPrefix(es.File, "..") {
+			pr.at(key+".file", "stage %q: by = \"file\" needs file = \"NAME\", relative to the stage's directory", s.Name)
+		}
+	case "command":
+		argv, err := SplitCommand(raw.Command)
+		if err != nil {
+			pr.at(key+".command", "stage %q: early_stop command: %v", s.Name, err)
+		}
+		es.Command = argv
+	default:
+		pr.at(key+".by", "stage %q: by must be \"signal\", \"file\" or \"command\" (got %q)", s.Name, es.By)
+	}
+	s.EarlyStop = es
+}
+
+// Quantity returns the named quantity, or nil.
+func (r *Recipe) Quantity(name string) *Quantity {
+	for i := range r.Quantities {
+		if r.Quantities[i].Name == name {
+			return &r.Quantities[i]
+		}
+	}
+	return nil
+}
+
+// Objective returns the quantity that ranks variants: the named one, or
+// else the first with a goal, or else the first declared; nil if the
+// recipe declares none.
+func (r *Recipe) Objective(name string) (*Quantity, error) {
+	if name != "" {
+		if q := r.Quantity(name); q != nil {
+			return q, nil
+		}
+		names := make([]string, len(r.Quantities))
+		for i, q := range r.Quantities {
+			names[i] = q.Name
+		}
+		return nil, fmt.Errorf("no quantity %q in the recipe (declared: %s)", name, strings.Join(names, ", "))
+	}
+	for i := range r.Quantities {
+		if r.Quantities[i].Goal != "" {
+			return &r.Quantities[i], nil
+		}
+	}
+	if len(r.Quantities) > 0 {
+		return &r.Quantities[0], nil
+	}
+	return nil, fmt.Errorf("%s declares no [[quantity]]: add one saying which history file and column to read", FileName)
+}

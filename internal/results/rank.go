@@ -1,0 +1,110 @@
+package results
+
+import (
+	"math"
+	"strings"
+
+	"github.com/sweep-cfd/sweep/internal/harvest"
+)
+
+// Confidence is the level of every interval and test in rankings.
+const Confidence = 0.95
+
+// Row is one line of a ranking. Scripts read the JSON names.
+type Row struct {
+	Rank      int            `json:"rank"`
+	ID        string         `json:"id"`
+	Label     string         `json:"label"`
+	Name      string         `json:"name,omitempty"`
+	Params    map[string]any `json:"params"`
+	Mean      float64        `json:"mean"`
+	HalfWidth float64        `json:"half_width"`
+	StdError  float64        `json:"std_error"`
+	Verdict   string         `json:"verdict"`
+	// Group holds the letters of the groups the variant belongs to:
+	// variants sharing a letter are not distinguishable at 95 %.
+	Group        string `json:"group"`
+	TiedWithBest bool   `json:"tied_with_best"`
+	// Baseline comparison, when a baseline is given: the difference from
+	// the baseline's mean, its 95 % half-width, the change in percent of
+	// the baseline's |mean|, and whether Welch's test tells them apart.
+	Delta          *float64 `json:"delta,omitempty"`
+	DeltaHalfWidth *float64 `json:"delta_half_width,omitempty"`
+	ChangePercent  *float64 `json:"change_percent,omitempty"`
+	Significant    *bool    `json:"significant,omitempty"`
+}
+
+// Ranking is a study's variants ordered by one quantity.
+type Ranking struct {
+	Quantity string `json:"quantity"`
+	Goal     string `json:"goal"`
+	Rows     []Row  `json:"rows"`
+	// Left out: variants without a usable average (never ran, failed,
+	// no data), with the reason.
+	Excluded []Excluded `json:"excluded,omitempty"`
+}
+
+// Excluded is a variant left out of a ranking.
+type Excluded struct {
+	Label  string `json:"label"`
+	Reason string `json:"reason"`
+}
+
+// estimate turns a harvested result into the estimate used in tests. A
+// steady result's interval is a bound, not a statistical interval; it is
+// read as a normal error of half-width/1.96 so that steady variants can
+// still be told apart by more than their bounds.
+func estimate(r harvest.Result) harvest.Estimate {
+	if r.Method == "bound" || r.Dof == 0 {
+		return harvest.Estimate{Mean: r.Mean, StdError: r.HalfWidth / 1.959963984540054, Dof: math.Inf(1)}
+	}
+	return r.Estimate()
+}
+
+// Rank orders the variants by the quantity's mean (ascending when
+// minimize), with compact-letter significance groups from Welch's test at
+// 95 %. With a baseline label, each row also carries its difference from
+// the baseline.
+func Rank(vs []Variant, quantity string, minimize bool, baseline string) Ranking {
+	goal := "maximize"
+	if minimize {
+		goal = "minimize"
+	}
+	rk := Ranking{Quantity: quantity, Goal: goal}
+	var cands []harvest.Candidate
+	byLabel := map[string]*Variant{}
+	for i := range vs {
+		v := &vs[i]
+		res, ok := v.Results[quantity]
+		switch {
+		case !ok:
+			rk.Excluded = append(rk.Excluded, Excluded{v.Label, "not harvested (" + string(v.State) + ")"})
+			continue
+		case res.Verdict == harvest.Failed:
+			rk.Excluded = append(rk.Excluded, Excluded{v.Label, "failed: " + res.Message})
+			continue
+		}
+		byLabel[v.Label] = v
+		cands = append(cands, harvest.Candidate{Name: v.Label, Estimate: estimate(res)})
+	}
+	ranked := harvest.Rank(cands, minimize, Confidence)
+	var base *harvest.Estimate
+	if b, ok := byLabel[baseline]; ok {
+		e := estimate(b.Results[quantity])
+		base = &e
+	}
+	for _, r := range ranked {
+		v := byLabel[r.Name]
+		res := v.Results[quantity]
+		row := Row{Rank: r.Rank, ID: v.ID, Label: v.Label, Name: v.Name, Params: v.Params, Mean: res.Mean,
+			HalfWidth: res.HalfWidth, StdError: res.StdError, Verdict: string(res.Verdict),
+			Group: strings.Join(r.Groups, ""), TiedWithBest: r.TiedWithBest}
+		if base != nil {
+			d := harvest.Compare(*base, estimate(res), Confidence)
+			pct := 100 * harvest.RelativeChange(base.Mean, res.Mean)
+			row.Delta, row.DeltaHalfWidth, row.ChangePercent, row.Significant = &d.Delta, &d.HalfWidth, &pct, &d.Significant
+		}
+		rk.Rows = append(rk.Rows, row)
+	}
+	return rk
+}
