@@ -1,20 +1,27 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 
 	"github.com/spf13/cobra"
 
+	"github.com/sweep-cfd/sweep/internal/fit"
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/results"
 	"github.com/sweep-cfd/sweep/internal/store"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
 type planOptions struct {
-	dryRun bool
-	json   bool
+	dryRun    bool
+	json      bool
+	add       int
+	criterion string
+	quantity  string
+	seed      uint64
 }
 
 func newPlanCmd() *cobra.Command {
@@ -33,6 +40,10 @@ its results.`,
 		},
 	}
 	cmd.Flags().BoolVar(&opts.dryRun, "dry-run", false, "print the variants without writing anything")
+	cmd.Flags().IntVar(&opts.add, "add", 0, "propose this many new variants where they help most (from a kriging surface of the harvested results) and add them")
+	cmd.Flags().StringVar(&opts.criterion, "criterion", "ei", "with --add: ei (expected improvement of the objective) or variance (where the surface is least certain)")
+	cmd.Flags().StringVar(&opts.quantity, "quantity", "", "with --add: the quantity (default: the objective)")
+	cmd.Flags().Uint64Var(&opts.seed, "seed", 1, "with --add: seed of the search for new points")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the result as JSON")
 	return cmd
 }
@@ -49,7 +60,16 @@ func runPlan(cmd *cobra.Command, opts planOptions, dir string) error {
 		}
 		defer lock.Release()
 	}
-	res, err := plan.Plan(cmd.Context(), r, plan.Options{DryRun: opts.dryRun})
+	var extra []recipe.Point
+	if opts.add < 0 {
+		return usageError{errors.New("--add must be positive")}
+	}
+	if opts.add > 0 {
+		if extra, err = propose(cmd, r, dir, opts); err != nil {
+			return err
+		}
+	}
+	res, err := plan.Plan(cmd.Context(), r, plan.Options{DryRun: opts.dryRun, Extra: extra})
 	if err != nil {
 		return err
 	}
@@ -69,12 +89,41 @@ type planRowJSON struct {
 	New    bool           `json:"new"`
 }
 
+// propose fits the harvested results and proposes opts.add new points.
+func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions) ([]recipe.Point, error) {
+	q, err := r.Objective(opts.quantity)
+	if err != nil {
+		return nil, usageError{err}
+	}
+	st, err := store.OpenExisting(dir, store.Options{Brief: true})
+	if err != nil {
+		return nil, err
+	}
+	defer st.Close()
+	vs, err := results.Harvest(cmd.Context(), r, st, nil)
+	if err != nil {
+		return nil, err
+	}
+	d, cols, _, err := fit.StudyData(r, vs, q.Name)
+	if err != nil {
+		return nil, err
+	}
+	if len(d.Y) < 3 {
+		return nil, fmt.Errorf("--add needs at least 3 converged variants to fit a surface (the study has %d); run the design first", len(d.Y))
+	}
+	pts, _, err := fit.Next(r, d, cols, vs, opts.add, opts.criterion, q.Goal == "maximize", opts.seed)
+	if err != nil {
+		return nil, err
+	}
+	return pts, nil
+}
+
 func planJSON(r *recipe.Recipe, res *plan.Result, dry bool) any {
 	rows := make([]planRowJSON, len(res.Rows))
 	for i, row := range res.Rows {
 		rows[i] = planRowJSON{ID: row.ID, Label: row.Label, Name: row.Name, Params: paramMap(r, row.Values), New: row.New}
 	}
-	return map[string]any{"dry_run": dry, "added": res.Added, "kept": res.Kept, "duplicates": res.Duplicates,
+	return map[string]any{"dry_run": dry, "design": res.Design, "added": res.Added, "kept": res.Kept, "duplicates": res.Duplicates,
 		"retired": res.Retired, "variants": rows}
 }
 
@@ -122,7 +171,8 @@ func printPlan(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool) {
 	if dry {
 		verb = "would plan (dry run, nothing written)"
 	}
-	fmt.Fprintf(w, "\n%s %d new variants; %d already planned kept", verb, res.Added, res.Kept)
+	fmt.Fprintf(w, "\ndesign: %s\n", res.Design)
+	fmt.Fprintf(w, "%s %d new variants; %d already planned kept", verb, res.Added, res.Kept)
 	if res.Duplicates > 0 {
 		fmt.Fprintf(w, "; %d duplicate design points planned once", res.Duplicates)
 	}

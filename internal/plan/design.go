@@ -2,6 +2,7 @@ package plan
 
 import (
 	"fmt"
+	"path/filepath"
 	"sort"
 	"strings"
 
@@ -9,46 +10,108 @@ import (
 	"github.com/sweep-cfd/sweep/internal/recipe"
 )
 
-// generators build the points of each design method the recipe may name.
-var generators = map[string]func(*recipe.Recipe) ([]recipe.Point, error){
-	"factorial": factorial,
-	"table":     func(r *recipe.Recipe) ([]recipe.Point, error) { return r.Design.Points, nil },
+// generators build the unit-cube points of each design method the recipe
+// may name, with a note on the design's quality; explicit tables are
+// handled apart.
+var generators = map[string]func(*recipe.Recipe) ([][]float64, string){
+	"factorial": func(r *recipe.Recipe) ([][]float64, string) {
+		levels := make([]int, len(r.Params))
+		for i, p := range r.Params {
+			levels[i] = p.Levels(r.Design.Steps)
+		}
+		return doe.FullFactorial(levels), "full factorial"
+	},
+	"latin": func(r *recipe.Recipe) ([][]float64, string) {
+		pts, d := doe.LatinHypercube(r.Design.Count, len(r.Params), doe.LatinHypercubeOptions{Seed: r.Design.Seed})
+		return pts, fmt.Sprintf("maximin Latin hypercube, seed %d: minimum distance %.3g in the unit cube", r.Design.Seed, d)
+	},
+	"sobol": func(r *recipe.Recipe) ([][]float64, string) {
+		pts := doe.SobolPoints(r.Design.Count, len(r.Params), doe.SobolOptions{Scramble: true, Seed: r.Design.Seed})
+		return pts, fmt.Sprintf("scrambled Sobol' points, seed %d: centred L2 discrepancy %.3g", r.Design.Seed, doe.CenteredL2Discrepancy(pts))
+	},
+	"composite": func(r *recipe.Recipe) ([][]float64, string) {
+		kind := map[string]doe.CompositeKind{"circumscribed": doe.Circumscribed, "inscribed": doe.Inscribed, "face": doe.FaceCentred}[r.Design.Composite]
+		return doe.CentralComposite(len(r.Params), kind, r.Design.Centre),
+			fmt.Sprintf("central composite (%s, alpha %.4g), %d centre points", r.Design.Composite, doe.RotatableAlpha(len(r.Params)), r.Design.Centre)
+	},
+	"box_behnken": func(r *recipe.Recipe) ([][]float64, string) {
+		return doe.BoxBehnken(len(r.Params), r.Design.Centre), fmt.Sprintf("Box-Behnken, %d centre points", r.Design.Centre)
+	},
+	"one_at_a_time": func(r *recipe.Recipe) ([][]float64, string) {
+		base := make([]float64, len(r.Params))
+		for i, p := range r.Params {
+			base[i] = 0.5
+			if r.Design.Baseline != nil {
+				base[i] = p.Coord(r.Design.Baseline[i])
+			}
+		}
+		return doe.OneAtATime(base, nil, nil), "one factor at a time around the baseline"
+	},
+	"morris": func(r *recipe.Recipe) ([][]float64, string) {
+		levels := r.Design.Levels
+		if levels == 0 {
+			levels = 4
+		}
+		return doe.Morris(len(r.Params), doe.MorrisOptions{Levels: levels, Trajectories: r.Design.Trajectories, Seed: r.Design.Seed}),
+			fmt.Sprintf("Morris elementary-effects screening: %d trajectories, %d levels", r.Design.Trajectories, levels)
+	},
 }
 
 // Points returns the design's points, each with a value for every
-// parameter in recipe order.
-func Points(r *recipe.Recipe) ([]recipe.Point, error) {
+// parameter in recipe order, and a note on the design (its quality, and
+// points replaced or dropped by the constraints).
+func Points(r *recipe.Recipe) ([]recipe.Point, string, error) {
+	if r.Design.Method == "table" {
+		if len(r.Design.Points) == 0 {
+			return nil, "", fmt.Errorf("%s:%d: the design has no point; the study would have no variant", r.File, r.Design.Line)
+		}
+		return r.Design.Points, "explicit table", nil
+	}
 	gen, ok := generators[r.Design.Method]
 	if !ok {
-		return nil, fmt.Errorf("design method %q has no generator", r.Design.Method)
+		return nil, "", fmt.Errorf("design method %q has no generator", r.Design.Method)
 	}
-	pts, err := gen(r)
-	if err != nil {
-		return nil, err
+	unit, note := gen(r)
+	if len(r.Design.Constraints) > 0 {
+		mapping := func(u []float64) map[string]float64 { return r.Numbers(valuesAt(r, u)) }
+		opts := doe.ConstrainOptions{Mapping: mapping}
+		switch r.Design.Method {
+		case "sobol":
+			opts.Candidates = doe.NewSobol(len(r.Params), doe.SobolOptions{Scramble: true, Seed: r.Design.Seed + 1})
+		case "latin":
+			opts.Candidates, opts.Spread = doe.NewUniformCandidates(len(r.Params), r.Design.Seed+1), 20
+		}
+		res, err := doe.Constrain(unit, r.Design.Constraints, opts)
+		if err != nil {
+			return nil, "", fmt.Errorf("%w: %s:%d: %v; loosen the constraints", recipe.ErrInvalid, filepath.Base(r.File), r.Design.Line, err)
+		}
+		unit = res.Points
+		switch {
+		case len(res.Replaced) > 0:
+			note += fmt.Sprintf("; %d points failed the constraints and were replaced", len(res.Replaced))
+		case len(res.Dropped) > 0:
+			note += fmt.Sprintf("; %d points failed the constraints and were dropped", len(res.Dropped))
+		}
 	}
-	if len(pts) == 0 {
-		return nil, fmt.Errorf("%s:%d: the design has no point; the study would have no variant", r.File, r.Design.Line)
+	if len(unit) == 0 {
+		return nil, "", fmt.Errorf("%s:%d: the design has no point; the study would have no variant", r.File, r.Design.Line)
 	}
-	return pts, nil
+	return fromUnit(r, unit, r.Design.Method), note, nil
 }
 
-func factorial(r *recipe.Recipe) ([]recipe.Point, error) {
-	levels := make([]int, len(r.Params))
-	for i, p := range r.Params {
-		levels[i] = p.Levels(r.Design.Steps)
+func valuesAt(r *recipe.Recipe, u []float64) []recipe.Value {
+	vals := make([]recipe.Value, len(r.Params))
+	for j, p := range r.Params {
+		vals[j] = p.At(u[j])
 	}
-	return fromUnit(r, doe.FullFactorial(levels), "factorial"), nil
+	return vals
 }
 
 // fromUnit maps unit-cube points to parameter values.
 func fromUnit(r *recipe.Recipe, unit [][]float64, what string) []recipe.Point {
 	pts := make([]recipe.Point, len(unit))
 	for i, u := range unit {
-		vals := make([]recipe.Value, len(r.Params))
-		for j, p := range r.Params {
-			vals[j] = p.At(u[j])
-		}
-		pts[i] = recipe.Point{Values: vals, Where: fmt.Sprintf("%s point %d", what, i+1)}
+		pts[i] = recipe.Point{Values: valuesAt(r, u), Where: fmt.Sprintf("%s point %d", what, i+1)}
 	}
 	return pts
 }

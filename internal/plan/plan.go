@@ -34,6 +34,9 @@ type Progress interface {
 type Options struct {
 	DryRun   bool // compute and report, write nothing
 	Progress Progress
+	// Extra points are planned after the design's, as variants marked
+	// added (proposed by a sequential design); later plans keep them.
+	Extra []recipe.Point
 }
 
 // Row is one variant in a plan's result.
@@ -48,7 +51,8 @@ type Row struct {
 
 // Result describes what a plan did (or would do, on a dry run).
 type Result struct {
-	Rows       []Row // the design's variants, in design order
+	Design     string // the design and its quality
+	Rows       []Row  // the design's variants, in design order
 	Added      int
 	Kept       int
 	Duplicates int // design points equal to an earlier point, planned once
@@ -72,10 +76,12 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 	if err != nil {
 		return nil, err
 	}
-	pts, err := Points(r)
+	pts, note, err := Points(r)
 	if err != nil {
 		return nil, err
 	}
+	nDesign := len(pts)
+	pts = append(pts, opts.Extra...)
 	names := make([]string, len(r.Params))
 	for i, p := range r.Params {
 		names[i] = p.Name
@@ -92,7 +98,7 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 		defer st.Close()
 	}
 
-	res := &Result{}
+	res := &Result{Design: note}
 	var study store.Study
 	var fresh []store.Variant // variants to render and add
 	existing := map[uint64]bool{}
@@ -110,7 +116,7 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 		}
 		seen := map[string]bool{}
 		var changed []string
-		for _, pt := range pts {
+		for n, pt := range pts {
 			key := pointKey(names, pt)
 			if seen[key] {
 				res.Duplicates++
@@ -136,7 +142,7 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 				continue
 			}
 			v := store.Variant{Seq: s.NextSeq, ID: uuid.NewString(), Label: Label(s.NextSeq), Name: pt.Name,
-				Values: pt.Values, Where: pt.Where, Created: time.Now().UTC()}
+				Values: pt.Values, Where: pt.Where, Created: time.Now().UTC(), Added: n >= nDesign}
 			s.NextSeq++
 			fresh = append(fresh, v)
 			res.Added++
@@ -147,7 +153,7 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 		}
 		study = s
 		return tx.Variants(func(v store.Variant) error {
-			if !existing[v.Seq] && v.Rendered {
+			if !existing[v.Seq] && v.Rendered && !v.Added {
 				res.Retired++
 			}
 			return nil

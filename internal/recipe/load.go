@@ -51,6 +51,13 @@ type rawDesign struct {
 	File   string           `toml:"file"`
 	Seed   uint64           `toml:"seed"`
 	Count  int              `toml:"count"`
+	// composite: "circumscribed", "inscribed" or "face"; centre points
+	Composite    string         `toml:"composite"`
+	Centre       *int           `toml:"centre"`
+	Trajectories int            `toml:"trajectories"`
+	Levels       int            `toml:"levels"`
+	Baseline     map[string]any `toml:"baseline"`
+	Constraints  []string       `toml:"constraints"`
 }
 
 type rawStage struct {
@@ -70,7 +77,8 @@ var identRE = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9_]*$`)
 // DesignMethods lists the design methods a recipe may name, with a check of
 // the method's own settings. Package plan registers the methods it can
 // generate; Load refuses any other name.
-var DesignMethods = map[string]bool{"factorial": true, "table": true}
+var DesignMethods = map[string]bool{"factorial": true, "table": true, "latin": true, "sobol": true,
+	"composite": true, "box_behnken": true, "one_at_a_time": true, "morris": true}
 
 // Load reads and checks the recipe at path. Every problem found is
 // reported, each with file:line, in one Errors value (which matches
@@ -335,7 +343,8 @@ func firstDup(xs []float64) int {
 }
 
 func checkDesign(pr *problems, r *Recipe, d rawDesign) {
-	r.Design = Design{Method: d.Method, Steps: d.Steps, Seed: d.Seed, Count: d.Count, Line: pr.line("design")}
+	r.Design = Design{Method: d.Method, Steps: d.Steps, Seed: d.Seed, Count: d.Count, Line: pr.line("design"),
+		Composite: d.Composite, Trajectories: d.Trajectories, Levels: d.Levels}
 	if d.Method == "" {
 		methods := make([]string, 0, len(DesignMethods))
 		for m := range DesignMethods {
@@ -360,6 +369,7 @@ func checkDesign(pr *problems, r *Recipe, d rawDesign) {
 	if d.Count < 0 {
 		pr.at("design.count", "count must be positive (it is %d)", d.Count)
 	}
+	checkSampling(pr, r, d)
 	switch d.Method {
 	case "factorial":
 		if d.Points != nil || d.File != "" {

@@ -2,6 +2,8 @@ package recipe
 
 import (
 	"time"
+
+	"github.com/sweep-cfd/sweep/internal/doe"
 )
 
 // FileName is the recipe's file name inside a study directory.
@@ -83,8 +85,18 @@ type Design struct {
 	Steps  int     // default number of levels per range parameter in a factorial
 	Points []Point // for "table": the explicit points, from the recipe or a CSV file
 	Seed   uint64
-	Count  int // number of points for sampling designs
+	Count  int // number of points for sampling designs (latin, sobol)
 	Line   int
+
+	Composite    string  // composite: "circumscribed", "inscribed" or "face"
+	Centre       int     // composite, box_behnken: centre-point replicates
+	Trajectories int     // morris: number of trajectories
+	Levels       int     // morris: grid levels (even)
+	Baseline     []Value // one_at_a_time: the baseline point (nil: the centre)
+	// Constraints are expressions over parameter names that every point
+	// must satisfy; sampling designs replace failing points, structured
+	// designs drop them.
+	Constraints []*doe.Constraint
 }
 
 // Point is one explicit design point: a value for every parameter, and an

@@ -36,6 +36,7 @@ type Variant struct {
 	Values   []recipe.Value `json:"values"`
 	Where    string         `json:"where,omitempty"` // where the point was declared, for messages
 	Rendered bool           `json:"rendered"`
+	Added    bool           `json:"added,omitempty"` // proposed by `plan --add`, not by the design
 	Created  time.Time      `json:"created"`
 }
 

@@ -1,0 +1,135 @@
+package fit
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/results"
+	"github.com/sweep-cfd/sweep/internal/surface"
+)
+
+// Ensure that a quadratic fit through exact samples of a known bowl,
+// f(a, b) = 1 + (a − 0.3)² + 2 (b − 0.6)², recovers its coefficients, its
+// minimum (1 at a = 0.3, b = 0.6, plain algebra) and the fact that b
+// matters more than a: over a, b ∈ [0, 1] the variances of the two terms
+// are 1·Var((a−0.3)²) and 4·Var((b−0.6)²), both computed below from
+// Var(X²) for a uniform shifted variable.
+func TestFitKnownBowl(t *testing.T) {
+	f := func(a, b float64) float64 { return 1 + (a-0.3)*(a-0.3) + 2*(b-0.6)*(b-0.6) }
+	var d surface.Data
+	d.Names = []string{"a", "b"}
+	d.Bounds = surface.Bounds{Lo: []float64{0, 0}, Hi: []float64{1, 1}}
+	for _, a := range []float64{0, 0.25, 0.5, 0.75, 1} {
+		for _, b := range []float64{0, 0.5, 1} {
+			d.X = append(d.X, []float64{a, b})
+			d.Y = append(d.Y, f(a, b))
+			d.SE = append(d.SE, 1e-3)
+		}
+	}
+	rep, err := Fit(d, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string]float64{"1": 1 + 0.09 + 0.72, "a": -0.6, "b": -2.4, "a*b": 0, "a^2": 1, "b^2": 2}
+	for _, term := range rep.Terms {
+		if math.Abs(term.Coef-want[term.Name]) > 1e-9 {
+			t.Errorf("%s: %g, want %g", term.Name, term.Coef, want[term.Name])
+		}
+	}
+	o := rep.Optimum
+	if o == nil || math.Abs(o.Params["a"]-0.3) > 1e-4 || math.Abs(o.Params["b"]-0.6) > 1e-4 || math.Abs(o.Value-1) > 1e-8 {
+		t.Errorf("optimum %+v", o)
+	}
+	if rep.Flag != "" {
+		t.Errorf("an exact fit was flagged: %s", rep.Flag)
+	}
+	// Var((U−c)²) for U uniform on [0,1]: E[(U−c)^4] − E[(U−c)²]².
+	v := func(c float64) float64 {
+		m2 := ((1-c)*(1-c)*(1-c) + c*c*c) / 3
+		m4 := (math.Pow(1-c, 5) + math.Pow(c, 5)) / 5
+		return m4 - m2*m2
+	}
+	va, vb := v(0.3), 4*v(0.6)
+	for _, s := range rep.Sensitivities {
+		want := va / (va + vb)
+		if s.Param == "b" {
+			want = vb / (va + vb)
+		}
+		if math.Abs(s.First-want) > 4*s.FirstSE+0.01 {
+			t.Errorf("%s: first-order index %.4f ± %.4f, want %.4f", s.Param, s.First, s.FirstSE, want)
+		}
+	}
+}
+
+// Ensure that a surface that cannot follow the data is flagged: a linear
+// model through a parabola whose runs are known to ±0.001.
+func TestFitFlagsMisfit(t *testing.T) {
+	var d surface.Data
+	d.Names = []string{"x"}
+	d.Bounds = surface.Bounds{Lo: []float64{-1}, Hi: []float64{1}}
+	for i := range 9 {
+		x := -1 + float64(i)*0.25
+		d.X, d.Y, d.SE = append(d.X, []float64{x}), append(d.Y, x*x), append(d.SE, 1e-3)
+	}
+	rep, err := Fit(d, Options{Model: "linear"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.Flag == "" || !strings.Contains(rep.Flag, "misses structure") {
+		t.Errorf("misfit not flagged: loo %.3g noise %.3g", rep.LOORMSE, rep.Noise)
+	}
+}
+
+// Ensure that a fit of a study uses only converged or steady variants and
+// lists the others.
+func TestStudyDataLeavesOut(t *testing.T) {
+	r := &recipe.Recipe{Params: []recipe.Param{{Name: "a", Kind: recipe.Range, Min: 0, Max: 1}, {Name: "s", Kind: recipe.Choice, Choices: []string{"x"}}}}
+	mk := func(label string, a float64, verdict harvest.Verdict) results.Variant {
+		return results.Variant{Label: label, Values: []recipe.Value{recipe.Num(a), recipe.Word("x")},
+			Results: map[string]harvest.Result{"drag": {Verdict: verdict, Mean: a, StdError: 0.01, HalfWidth: 0.02, Dof: 20}}}
+	}
+	vs := []results.Variant{mk("v001", 0.1, harvest.Converged), mk("v002", 0.5, harvest.NotConverged), mk("v003", 0.9, harvest.Steady), {Label: "v004", State: "pending"}}
+	d, cols, left, err := StudyData(r, vs, "drag")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(d.Y) != 2 || len(cols) != 1 || d.Names[0] != "a" {
+		t.Errorf("data %+v cols %v", d, cols)
+	}
+	if len(left) != 2 || left[0].Label != "v002" || left[1].Label != "v004" {
+		t.Errorf("left out %+v", left)
+	}
+}
+
+// Ensure that a table fit reproduces the NIST StRD Norris certified
+// coefficients (NIST Statistical Reference Datasets, linear least squares,
+// Norris; values copied in testdata/), rel 1e-9.
+func TestTableNorris(t *testing.T) {
+	d, err := TableData(filepath.Join("testdata", "nist_strd_norris.csv"), "y")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep, err := Fit(d, Options{Terms: "1, x"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cert := map[string]float64{"1": -0.262323073774029, "x": 1.00211681802045}
+	for _, term := range rep.Terms {
+		if math.Abs(term.Coef/cert[term.Name]-1) > 1e-9 {
+			t.Errorf("%s = %.15g, certified %.15g", term.Name, term.Coef, cert[term.Name])
+		}
+	}
+	if _, err := TableData(filepath.Join("testdata", "nist_strd_norris.csv"), "z"); err == nil || !strings.Contains(err.Error(), `no column "z"`) {
+		t.Errorf("missing response: %v", err)
+	}
+	bad := filepath.Join(t.TempDir(), "bad.csv")
+	os.WriteFile(bad, []byte("y,x\n1,2\n3,oops\n"), 0o644)
+	if _, err := TableData(bad, "y"); err == nil || !strings.Contains(err.Error(), `bad.csv:3: "oops" (column x) is not a finite number`) {
+		t.Errorf("bad cell: %v", err)
+	}
+}

@@ -1,0 +1,221 @@
+package surface
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"sort"
+)
+
+// Criterion selects what an infill point should improve.
+type Criterion int
+
+const (
+	// CriterionEI maximises the expected improvement over the best run:
+	// points likely to beat the current optimum (see ExpectedImprovement).
+	CriterionEI Criterion = iota
+	// CriterionVariance maximises the predictive variance: points where the
+	// surface is least known, to improve its accuracy everywhere.
+	CriterionVariance
+)
+
+// Strategy selects how a batch of several points is built.
+type Strategy int
+
+const (
+	// KrigingBeliever adds each chosen point to the model as a
+	// pseudo-run whose response is the model's own mean there, then picks
+	// the next point. With the hyperparameters kept, this leaves the mean
+	// unchanged and removes the variance around the chosen point.
+	KrigingBeliever Strategy = iota
+	// ConstantLiar adds each chosen point with the current best response
+	// as its pseudo-response (the optimistic "CL-min" liar), which pushes
+	// the next points away from it more strongly.
+	ConstantLiar
+)
+
+// InfillOptions configure Propose. The zero value proposes one point by
+// expected improvement for minimisation.
+type InfillOptions struct {
+	Criterion Criterion
+	// Maximize turns the expected improvement towards larger responses.
+	Maximize bool
+	// K is the number of points to propose; zero means 1.
+	K int
+	// Strategy builds batches (K > 1); see KrigingBeliever and ConstantLiar.
+	Strategy Strategy
+	// Candidates is the size of the Latin hypercube screened for each
+	// point; zero means max(1000, 300·k).
+	Candidates int
+	// MinDist is the smallest distance, in the unit cube, allowed between
+	// a proposal and any run or earlier proposal. Zero means a quarter of
+	// the runs' median nearest-neighbour spacing, or 0.01 if that is
+	// smaller.
+	MinDist float64
+	// Feasible, if not nil, rejects points (natural units) that cannot be
+	// run.
+	Feasible func(x []float64) bool
+	// Seed seeds the candidate designs.
+	Seed uint64
+}
+
+// Proposal is a suggested new run.
+type Proposal struct {
+	// X is the point, in natural units.
+	X []float64
+	// Mean and SD are the fitted model's prediction at X (before any
+	// pseudo-run of the batch was added).
+	Mean, SD float64
+	// Score is the criterion's value at X when it was chosen (expected
+	// improvement, or predictive variance, under the model updated with
+	// the batch's earlier points).
+	Score float64
+}
+
+// ExpectedImprovement returns the expected improvement below fmin of a
+// normal prediction with mean mu and standard deviation sd (Jones, Schonlau
+// & Welch 1998, "Efficient global optimization of expensive black-box
+// functions", J. Global Optim. 13, eq. 15):
+//
+//	EI = (fmin − mu) Φ(z) + sd φ(z),   z = (fmin − mu)/sd,
+//
+// with Φ and φ the standard normal CDF and density; EI = max(fmin − mu, 0)
+// when sd = 0. For maximisation, pass the negated values.
+func ExpectedImprovement(fmin, mu, sd float64) float64 {
+	d := fmin - mu
+	if !(sd > 0) {
+		return math.Max(d, 0)
+	}
+	z := d / sd
+	cdf := 0.5 * math.Erfc(-z/math.Sqrt2)
+	pdf := math.Exp(-0.5*z*z) / math.Sqrt(2*math.Pi)
+	return d*cdf + sd*pdf
+}
+
+// Propose suggests opts.K new runs for the kriging model m.
+//
+// For each point it screens a fresh Latin hypercube of candidates in the
+// unit cube, drops those closer than MinDist to a run or earlier proposal
+// or rejected by Feasible, and refines the three best by Nelder-Mead
+// (projected onto the cube, with rejected points scored worst). The
+// expected improvement uses as f_min the smallest model mean at the runs
+// (the plug-in value for noisy runs; it equals the smallest response when
+// the model interpolates). A batch is built by the kriging believer or the
+// constant liar (Ginsbourger, Le Riche & Carraro 2010, "Kriging is
+// well-suited to parallelize optimization"): the model is refitted with
+// the same hyperparameters after each point, the pseudo-run carrying a
+// standard error of 1e-3 times the smallest given one (zero when the runs
+// have none).
+//
+// It returns an error wrapping ErrNoFeasible when no candidate is allowed.
+func Propose(m *Kriging, opts InfillOptions) ([]Proposal, error) {
+	k := m.gp.k
+	b := m.Bounds()
+	if opts.K <= 0 {
+		opts.K = 1
+	}
+	if opts.Candidates <= 0 {
+		opts.Candidates = max(1000, 300*k)
+	}
+	runs := unitInputs(m)
+	if opts.MinDist <= 0 {
+		opts.MinDist = 0.25 * medianSpacing(runs)
+		if !(opts.MinDist >= 0.01) || math.IsInf(opts.MinDist, 1) {
+			opts.MinDist = 0.01
+		}
+	}
+	sign := 1.0
+	if opts.Maximize {
+		sign = -1
+	}
+	rng := rand.New(rand.NewPCG(opts.Seed, 0x1f111))
+	cur := m
+	taken := append([][]float64(nil), runs...)
+	var out []Proposal
+	for len(out) < opts.K {
+		fmin := math.Inf(1)
+		for _, x := range cur.Inputs() {
+			fmin = math.Min(fmin, sign*cur.Mean(x))
+		}
+		score := func(u []float64) float64 {
+			mu, sd := cur.Predict(b.fromUnit(u))
+			if opts.Criterion == CriterionVariance {
+				return sd * sd
+			}
+			return ExpectedImprovement(fmin, sign*mu, sd)
+		}
+		allowed := func(u []float64) bool {
+			if nearest(u, taken) < opts.MinDist {
+				return false
+			}
+			return opts.Feasible == nil || opts.Feasible(b.fromUnit(u))
+		}
+		type scored struct {
+			u []float64
+			s float64
+		}
+		var pool []scored
+		for _, u := range latin(rng, opts.Candidates, k) {
+			if allowed(u) {
+				pool = append(pool, scored{u, score(u)})
+			}
+		}
+		if len(pool) == 0 {
+			return out, fmt.Errorf("%w: no candidate for point %d is at least %.3g from every run and feasible", ErrNoFeasible, len(out)+1, opts.MinDist)
+		}
+		sort.SliceStable(pool, func(i, j int) bool { return pool[i].s > pool[j].s })
+		best := pool[0]
+		scale := math.Max(best.s, 1e-300)
+		f := func(v []float64) float64 {
+			u := clampUnit(v)
+			var pen float64
+			for j := range v {
+				pen += (v[j] - u[j]) * (v[j] - u[j])
+			}
+			if !allowed(u) {
+				return scale * (1 + pen)
+			}
+			s := score(u)
+			if s > best.s {
+				best = scored{u, s}
+			}
+			return -s + scale*pen
+		}
+		for i := 0; i < 3 && i < len(pool); i++ {
+			localMin(f, pool[i].u, 0.02, scale)
+		}
+		x := b.fromUnit(best.u)
+		mu, sd := m.Predict(x)
+		out = append(out, Proposal{X: x, Mean: mu, SD: sd, Score: best.s})
+		taken = append(taken, best.u)
+		if len(out) == opts.K {
+			break
+		}
+		pseudo := cur.Mean(x)
+		if opts.Strategy == ConstantLiar {
+			pseudo = sign * fmin
+		}
+		next, err := cur.withRun(x, pseudo)
+		if err != nil {
+			return out, err
+		}
+		cur = next
+	}
+	return out, nil
+}
+
+// withRun refits the model with one more run, keeping its hyperparameters.
+func (m *Kriging) withRun(x []float64, y float64) (*Kriging, error) {
+	d := m.data
+	d.X = append(append([][]float64(nil), d.X...), x)
+	d.Y = append(append([]float64(nil), d.Y...), y)
+	if d.SE != nil {
+		small := math.Inf(1)
+		for _, s := range d.SE {
+			small = math.Min(small, s)
+		}
+		d.SE = append(append([]float64(nil), d.SE...), 1e-3*small)
+	}
+	h := m.Hyper
+	return FitKriging(d, KrigingOptions{Kernel: m.Kernel, Trend: m.Trend, Nugget: m.nugget, Hyper: &h})
+}
