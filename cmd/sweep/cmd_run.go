@@ -12,9 +12,11 @@ import (
 )
 
 type runOptions struct {
-	cores int
-	json  bool
-	quiet bool
+	backend string
+	detach  bool
+	cores   int
+	json    bool
+	quiet   bool
 }
 
 func newRunCmd() *cobra.Command {
@@ -36,6 +38,8 @@ again. Only one run may work on a study at a time.`,
 		},
 	}
 	cmd.Flags().IntVar(&opts.cores, "cores", 0, "cores the run may use at once (default: all of this machine's)")
+	cmd.Flags().StringVar(&opts.backend, "backend", "", "where stages run: local or slurm (default: the recipe's [backend] kind, else local)")
+	cmd.Flags().BoolVar(&opts.detach, "detach", false, "slurm: submit what is ready and return; run again (or status --refresh) to follow")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the final status as JSON")
 	cmd.Flags().BoolVarP(&opts.quiet, "quiet", "q", false, "print only failures and the summary")
 	return cmd
@@ -54,8 +58,23 @@ func runRun(cmd *cobra.Command, opts runOptions, dir string) error {
 		return err
 	}
 	defer lock.Release()
+	backend := r.Backend.Kind
+	if opts.backend != "" {
+		backend = opts.backend
+	}
 	prog := ui.NewRunProgress(os.Stderr, opts.quiet)
-	snap, err := runner.Run(cmd.Context(), r, runner.Options{Cores: opts.cores, Progress: prog})
+	var snap *runner.Snapshot
+	switch backend {
+	case "local":
+		if opts.detach {
+			return usageError{fmt.Errorf("--detach needs the slurm backend")}
+		}
+		snap, err = runner.Run(cmd.Context(), r, runner.Options{Cores: opts.cores, Progress: prog})
+	case "slurm":
+		snap, err = runner.RunSlurm(cmd.Context(), r, runner.Options{Progress: prog}, opts.detach)
+	default:
+		return usageError{fmt.Errorf("--backend must be local or slurm (got %q)", backend)}
+	}
 	prog.Finish()
 	if snap == nil {
 		return err
@@ -87,4 +106,31 @@ func runRun(cmd *cobra.Command, opts runOptions, dir string) error {
 		return fmt.Errorf("%d variants failed", snap.Failed)
 	}
 	return nil
+}
+
+func newCancelCmd() *cobra.Command {
+	return &cobra.Command{
+		Use:   "cancel [DIR]",
+		Short: "Cancel the study's jobs in Slurm (scancel) and re-queue them",
+		Args:  maxOneDir,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			dir := studyDir(args)
+			lock, err := store.Acquire(dir, "cancel")
+			if err != nil {
+				return err
+			}
+			defer lock.Release()
+			st, err := store.OpenExisting(dir, store.Options{Brief: true})
+			if err != nil {
+				return err
+			}
+			defer st.Close()
+			n, err := runner.CancelSlurm(cmd.Context(), st)
+			if err != nil {
+				return err
+			}
+			fmt.Fprintf(cmd.OutOrStdout(), "cancelled %d Slurm jobs; they are back in the queue\n", n)
+			return nil
+		},
+	}
 }

@@ -13,7 +13,8 @@ import (
 )
 
 type statusOptions struct {
-	json bool
+	json    bool
+	refresh bool
 }
 
 func newStatusCmd() *cobra.Command {
@@ -27,10 +28,17 @@ used while a run is going on. --json prints an object with "counts" (done,
 failed, pending, running) and "variants" (id, label, state, params, ...).`,
 		Args: maxOneDir,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return runStatus(cmd.OutOrStdout(), opts, studyDir(args))
+			dir := studyDir(args)
+			if opts.refresh {
+				if err := refreshSlurm(cmd, dir); err != nil {
+					return err
+				}
+			}
+			return runStatus(cmd.OutOrStdout(), opts, dir)
 		},
 	}
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the status as JSON")
+	cmd.Flags().BoolVar(&opts.refresh, "refresh", false, "slurm: ask Slurm about the study's jobs first (and submit what is ready)")
 	return cmd
 }
 
@@ -79,4 +87,19 @@ func runStatus(w io.Writer, opts statusOptions, dir string) error {
 		fmt.Fprintf(w, "no run is active: the jobs marked running? were left by a run that ended abruptly; `sweep run %s` re-queues them\n", dir)
 	}
 	return nil
+}
+
+// refreshSlurm takes one look at the study's Slurm jobs (a detached run).
+func refreshSlurm(cmd *cobra.Command, dir string) error {
+	r, err := loadRecipe(dir)
+	if err != nil {
+		return err
+	}
+	lock, err := store.Acquire(dir, "status --refresh")
+	if err != nil {
+		return err
+	}
+	defer lock.Release()
+	_, err = runner.RunSlurm(cmd.Context(), r, runner.Options{}, true)
+	return err
 }

@@ -25,6 +25,7 @@ type rawRecipe struct {
 	Design      rawDesign     `toml:"design"`
 	Stages      []rawStage    `toml:"stage"`
 	Quantities  []rawQuantity `toml:"quantity"`
+	Backend     rawBackend    `toml:"backend"`
 }
 
 type rawCase struct {
@@ -122,6 +123,7 @@ func Parse(path string, data []byte) (*Recipe, error) {
 	checkDesign(pr, r, raw.Design)
 	checkQuantities(pr, r, raw.Quantities)
 	checkStages(pr, r, raw.Stages)
+	checkBackend(pr, r, raw.Backend)
 	if len(pr.list) > 0 {
 		return nil, pr.list
 	}
@@ -157,7 +159,7 @@ var typeErrRE = regexp.MustCompile(`cannot decode TOML (\w+) into struct field \
 
 // tomlName turns a raw struct field name back into its recipe key.
 func tomlName(field string) string {
-	for _, t := range []reflect.Type{reflect.TypeOf(rawRecipe{}), reflect.TypeOf(rawCase{}), reflect.TypeOf(rawParam{}), reflect.TypeOf(rawDesign{}), reflect.TypeOf(rawStage{}), reflect.TypeOf(rawQuantity{}), reflect.TypeOf(rawEarlyStop{})} {
+	for _, t := range []reflect.Type{reflect.TypeOf(rawRecipe{}), reflect.TypeOf(rawCase{}), reflect.TypeOf(rawParam{}), reflect.TypeOf(rawDesign{}), reflect.TypeOf(rawStage{}), reflect.TypeOf(rawQuantity{}), reflect.TypeOf(rawEarlyStop{}), reflect.TypeOf(rawBackend{})} {
 		if f, ok := t.FieldByName(field); ok {
 			return f.Tag.Get("toml")
 		}

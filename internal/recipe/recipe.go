@@ -22,6 +22,7 @@ type Recipe struct {
 	Design      Design
 	Stages      []Stage
 	Quantities  []Quantity
+	Backend     Backend
 }
 
 // Kind is the kind of a parameter.

@@ -50,6 +50,7 @@ type Job struct {
 	Interrupts int       `json:"interrupts,omitempty"` // runs stopped by the user or lost in a crash
 	Token      string    `json:"token,omitempty"`      // identifies the current run's processes
 	PID        int       `json:"pid,omitempty"`
+	SlurmID    string    `json:"slurm_id,omitempty"` // the batch job of this run, on the Slurm backend
 	Cores      int       `json:"cores,omitempty"`
 	Started    time.Time `json:"started,omitzero"`
 	Ended      time.Time `json:"ended,omitzero"`
