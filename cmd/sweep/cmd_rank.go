@@ -15,6 +15,7 @@ type rankOptions struct {
 	by       string
 	baseline string
 	maximize bool
+	mesh     string
 	json     bool
 	csv      bool
 }
@@ -39,6 +40,7 @@ in percent.`,
 	}
 	cmd.Flags().StringVar(&opts.by, "by", "", "the quantity to rank by (default: the recipe's objective)")
 	cmd.Flags().StringVar(&opts.baseline, "baseline", "", "compare every variant with this one (a label such as v001)")
+	cmd.Flags().StringVar(&opts.mesh, "mesh-study", "", "a grid-convergence study of the same setup: also say whether differences exceed the discretisation uncertainty")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the ranking as JSON (a list, best first)")
 	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print the ranking as CSV")
 	return cmd
@@ -62,6 +64,13 @@ func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
 		return usageError{fmt.Errorf("no variant %q in the study; see `sweep status %s`", opts.baseline, dir)}
 	}
 	rk := results.Rank(vs, q.Name, q.Goal != "maximize", opts.baseline)
+	if opts.mesh != "" {
+		g, err := meshGCI(cmd, opts.mesh, q.Name)
+		if err != nil {
+			return err
+		}
+		rk.ApplyMesh(g)
+	}
 	out := cmd.OutOrStdout()
 	switch {
 	case opts.json:
@@ -98,6 +107,10 @@ func rankTable(r *recipe.Recipe, q *recipe.Quantity, rk results.Ranking, withBas
 	if withBase {
 		head = append(head, "vs baseline (95% CI)", "change", "distinct")
 	}
+	withMesh := len(rk.Rows) > 0 && rk.Rows[0].MeshHalfWidth != nil
+	if withMesh {
+		head = append(head, "mesh ±", "beyond mesh")
+	}
 	rows := [][]string{head}
 	for _, row := range rk.Rows {
 		line := []string{fmt.Sprint(row.Rank), row.Label, row.Group}
@@ -111,6 +124,13 @@ func rankTable(r *recipe.Recipe, q *recipe.Quantity, rk results.Ranking, withBas
 				distinct = "yes"
 			}
 			line = append(line, ui.PlusMinus(*row.Delta, *row.DeltaHalfWidth), fmt.Sprintf("%+.1f%%", *row.ChangePercent), distinct)
+		}
+		if withMesh {
+			beyond := "(best)"
+			if row.BeyondMesh != nil {
+				beyond = map[bool]string{true: "yes", false: "no"}[*row.BeyondMesh]
+			}
+			line = append(line, fmt.Sprintf("%.2g", *row.MeshHalfWidth), beyond)
 		}
 		rows = append(rows, line)
 	}

@@ -43,6 +43,7 @@ type rawParam struct {
 	Unit    string    `toml:"unit"`
 	Values  []float64 `toml:"values"`
 	Choices []string  `toml:"choices"`
+	Mesh    string    `toml:"mesh"`
 }
 
 type rawDesign struct {
@@ -325,6 +326,21 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 		}
 		if rp.Steps != 0 && p.Kind != Range {
 			pr.at(key+".steps", "steps applies only to min/max ranges; remove it from parameter %q", rp.Name)
+		}
+		switch rp.Mesh {
+		case "":
+		case "resolution", "spacing", "cells2d", "cells3d":
+			if p.Kind == Choice {
+				pr.at(key+".mesh", "parameter %q: a mesh level must be numeric", rp.Name)
+			}
+			for _, q := range r.Params {
+				if q.Mesh != "" {
+					pr.at(key+".mesh", "parameter %q: only one parameter can be the mesh level (%q is already)", rp.Name, q.Name)
+				}
+			}
+			p.Mesh = rp.Mesh
+		default:
+			pr.at(key+".mesh", "parameter %q: mesh must be \"resolution\" (cells per length), \"spacing\" (cell size), \"cells2d\" or \"cells3d\" (cell counts) (got %q)", rp.Name, rp.Mesh)
 		}
 		if rp.Log && p.Kind != Range {
 			pr.at(key+".log", "log applies only to min/max ranges; remove it from parameter %q", rp.Name)

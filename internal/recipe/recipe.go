@@ -1,6 +1,7 @@
 package recipe
 
 import (
+	"math"
 	"time"
 
 	"github.com/sweep-cfd/sweep/internal/doe"
@@ -60,7 +61,11 @@ type Param struct {
 	Unit    string
 	Values  []float64 // Levels
 	Choices []string  // Choice
-	Line    int       // line of the parameter's table in the recipe
+	// Mesh marks the parameter as the mesh level of a grid-convergence
+	// study and says how its value reads: "resolution" (cells per
+	// length), "spacing" (cell size), "cells2d" or "cells3d" (cell counts).
+	Mesh string
+	Line int // line of the parameter's table in the recipe
 }
 
 // Stage is one step run on every variant, in recipe order.
@@ -116,4 +121,18 @@ func (r *Recipe) ParamIndex(name string) int {
 		}
 	}
 	return -1
+}
+
+// CellSize returns the representative cell size for a mesh parameter's
+// value (see Param.Mesh), in the unit the value implies.
+func (p Param) CellSize(v float64) float64 {
+	switch p.Mesh {
+	case "resolution":
+		return 1 / v
+	case "cells2d":
+		return math.Pow(v, -0.5)
+	case "cells3d":
+		return math.Pow(v, -1.0/3)
+	}
+	return v
 }

@@ -32,6 +32,12 @@ type Row struct {
 	DeltaHalfWidth *float64 `json:"delta_half_width,omitempty"`
 	ChangePercent  *float64 `json:"change_percent,omitempty"`
 	Significant    *bool    `json:"significant,omitempty"`
+	// Mesh uncertainty, when a grid-convergence study is given: the
+	// discretisation half-width (GCI times |mean|) and whether the
+	// difference from the best variant exceeds the two variants'
+	// discretisation bands together.
+	MeshHalfWidth *float64 `json:"mesh_half_width,omitempty"`
+	BeyondMesh    *bool    `json:"beyond_mesh,omitempty"`
 }
 
 // Ranking is a study's variants ordered by one quantity.
@@ -107,4 +113,24 @@ func Rank(vs []Variant, quantity string, minimize bool, baseline string) Ranking
 		rk.Rows = append(rk.Rows, row)
 	}
 	return rk
+}
+
+// ApplyMesh adds the discretisation uncertainty of a grid-convergence
+// study (gciRel, the fine-grid GCI as a fraction) to a ranking: each row
+// gets GCI·|mean| as its mesh half-width, and rows after the first say
+// whether their difference from the best exceeds both bands together.
+func (rk *Ranking) ApplyMesh(gciRel float64) {
+	if len(rk.Rows) == 0 {
+		return
+	}
+	best := rk.Rows[0].Mean
+	bestHW := gciRel * math.Abs(best)
+	for i := range rk.Rows {
+		hw := gciRel * math.Abs(rk.Rows[i].Mean)
+		rk.Rows[i].MeshHalfWidth = &hw
+		if i > 0 {
+			beyond := math.Abs(rk.Rows[i].Mean-best) > hw+bestHW
+			rk.Rows[i].BeyondMesh = &beyond
+		}
+	}
 }
