@@ -9,7 +9,9 @@
 //     study.
 //
 // Both run the built-in solver (`sweep flow2d`), so they need nothing but
-// this program.
+// this program. A third study in this directory, cylinder-gerris, drives
+// an external solver (Debian's gerris2D); it is not embedded, since it
+// needs that solver installed.
 package recipes
 
 import (

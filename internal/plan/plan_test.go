@@ -297,3 +297,15 @@ run = "true"
 		})
 	}
 }
+
+// Ensure that templates can derive a setting from parameter values.
+func TestTemplateArithmetic(t *testing.T) {
+	dir := study(t, recipeText)
+	must(t, os.WriteFile(filepath.Join(dir, "template", "case.txt"), []byte("nu {{div 0.125 (mul .r 100)}} {{.shape}}\n"), 0o644))
+	_, err := Plan(context.Background(), load(t, dir), Options{})
+	must(t, err)
+	b, _ := os.ReadFile(filepath.Join(Dir(dir, "v003"), "case.txt")) // r = 0.2
+	if string(b) != "nu 0.00625 round\n" {
+		t.Errorf("case.txt = %q", b)
+	}
+}

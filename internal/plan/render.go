@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -130,7 +131,7 @@ func parseTemplate(path, rel string, r *recipe.Recipe) (*template.Template, erro
 	if !utf8.Valid(src) || bytes.IndexByte(src, 0) >= 0 {
 		return nil, fmt.Errorf("%s: matches a render pattern but is not UTF-8 text; remove it from [case] render (it will be linked as it is)", path)
 	}
-	t, err := template.New(rel).Option("missingkey=error").Parse(string(src))
+	t, err := template.New(rel).Option("missingkey=error").Funcs(funcs).Parse(string(src))
 	if err != nil {
 		return nil, fmt.Errorf("%s: %s", path, strings.TrimPrefix(err.Error(), "template: "))
 	}
@@ -150,6 +151,18 @@ func parseTemplate(path, rel string, r *recipe.Recipe) (*template.Template, erro
 		return nil, errors.New(strings.Join(bad, "\n"))
 	}
 	return t, nil
+}
+
+// funcs are the arithmetic a template may do on parameter values, so a
+// case file can hold a derived setting: {{div 0.125 .reynolds}} is a
+// viscosity for a chosen Reynolds number. Every function takes and
+// returns float64.
+var funcs = template.FuncMap{
+	"add": func(a, b float64) float64 { return a + b },
+	"sub": func(a, b float64) float64 { return a - b },
+	"mul": func(a, b float64) float64 { return a * b },
+	"div": func(a, b float64) float64 { return a / b },
+	"pow": math.Pow,
 }
 
 // lineOf turns text/template's "name:line:col" location into "line L".

@@ -72,6 +72,7 @@ type rawStage struct {
 	Dir       string            `toml:"dir"`
 	Env       map[string]string `toml:"env"`
 	EarlyStop *rawEarlyStop     `toml:"early_stop"`
+	Continue  string            `toml:"continue"`
 }
 
 var identRE = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9_]*$`)
@@ -554,6 +555,16 @@ func checkStages(pr *problems, r *Recipe, raws []rawStage) {
 				pr.at(key+".run", "stage %q: commands are not templates; read parameter values from the environment (%sPARAM_<NAME>) or from a rendered file", rs.Name, EnvPrefix)
 			}
 			s.Argv = argv
+		}
+		if rs.Continue != "" {
+			s.ContinueCommand = rs.Continue
+			if rs.Shell {
+				s.ContinueArgv = []string{"sh", "-c", rs.Continue, "sh"}
+			} else if argv, err := SplitCommand(rs.Continue); err != nil {
+				pr.at(key+".continue", "stage %q: continue: %v", rs.Name, err)
+			} else {
+				s.ContinueArgv = argv
+			}
 		}
 		checkEarlyStop(pr, r, key, &s, rs.EarlyStop)
 		r.Stages = append(r.Stages, s)

@@ -79,6 +79,11 @@ type Stage struct {
 	Retries int
 	Dir     string            // working directory relative to the variant directory ("" = the variant directory)
 	Env     map[string]string // extra constant environment variables
+	// ContinueArgv, when set, runs instead of Argv when the stage runs
+	// again after an interruption or a failure: it continues the
+	// solver's run (from its last restart data) rather than starting over.
+	ContinueCommand string
+	ContinueArgv    []string
 	// EarlyStop, when set, stops the stage's solver once the named
 	// quantities' averages have converged.
 	EarlyStop *EarlyStop

@@ -11,6 +11,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"syscall"
 	"time"
 
@@ -350,6 +351,10 @@ func (d *dispatcher) startRequest(a *active) request {
 	header := fmt.Sprintf("=== sweep: stage %s of %s, attempt %d, started %s ===\n",
 		a.stage.Name, a.vs.v.Label, a.job.Attempts+1, a.job.Started.Local().Format(time.DateTime))
 	argv := a.stage.Argv
+	if a.stage.ContinueArgv != nil && (a.job.Attempts > 0 || a.job.Interrupts > 0) {
+		argv = a.stage.ContinueArgv
+		header = strings.Replace(header, ", attempt", ", continued, attempt", 1)
+	}
 	if argv[0] == recipe.SelfProgram && !a.stage.Shell {
 		argv = append([]string{d.exe}, argv[1:]...)
 	}

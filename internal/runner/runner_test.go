@@ -10,6 +10,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
@@ -277,3 +278,46 @@ type eventRecorder struct{ list *[]string }
 
 func (e eventRecorder) Update(Snapshot)  {}
 func (e eventRecorder) Event(msg string) { *e.list = append(*e.list, msg) }
+
+// Ensure that a stage interrupted mid-run is continued with the recipe's
+// continue command rather than started again, and that the harvest merges
+// the restarted history (which overlaps the first one) by time, the later
+// file winning.
+func TestContinueAfterInterrupt(t *testing.T) {
+	dir, r := newStudy(t, 1, `
+[[quantity]]
+name = "y"
+files = "h_*.dat"
+value = 2
+[[stage]]
+name = "solve"
+shell = true
+run = "echo '# t y' > h_0.dat; i=0; while [ $i -lt 400 ]; do echo \"$i 1\" >> h_0.dat; i=$((i+1)); sleep 0.01; done; echo first >> ../../runs"
+continue = "last=$(tail -n 1 h_0.dat | cut -d' ' -f1); i=$((last - 5)); echo '# t y' > h_1.dat; while [ $i -lt 400 ]; do echo \"$i 2\" >> h_1.dat; i=$((i+1)); done; echo continued >> ../../runs"
+`)
+	ctx, cancel := context.WithTimeout(context.Background(), 1500*time.Millisecond)
+	defer cancel()
+	if _, err := Run(ctx, r, Options{Cores: 1, Grace: time.Second}); !errors.Is(err, ErrInterrupted) {
+		t.Fatalf("first run: %v", err)
+	}
+	if _, err := Run(context.Background(), r, Options{Cores: 1}); err != nil {
+		t.Fatal(err)
+	}
+	b, _ := os.ReadFile(filepath.Join(dir, "runs"))
+	if string(b) != "continued\n" {
+		t.Errorf("runs = %q, want one continued run and no full one", b)
+	}
+	vdir := plan.Dir(dir, "v001")
+	s, err := harvest.ReadSeries(vdir, r.Quantities[0].Spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(s.Overlaps) != 1 || s.Value[len(s.Value)-1] != 2 || s.Time[len(s.Time)-1] != 399 {
+		t.Errorf("merge: overlaps %+v, last %v at %v", s.Overlaps, s.Value[len(s.Value)-1], s.Time[len(s.Time)-1])
+	}
+	for i := 1; i < len(s.Time); i++ {
+		if s.Time[i] <= s.Time[i-1] {
+			t.Fatalf("merged times not increasing at %d: %v, %v", i, s.Time[i-1], s.Time[i])
+		}
+	}
+}

@@ -86,7 +86,7 @@ func exitFile(variantDir, token string) string {
 // reach its text (the backend's options, the stage's command words, which
 // the recipe wrote); parameter values travel in the environment that
 // sbatch exports to the job.
-func batchScript(r *recipe.Recipe, s recipe.Stage, vdir, token string) string {
+func batchScript(r *recipe.Recipe, s recipe.Stage, vdir, token string, again bool) string {
 	var b strings.Builder
 	b.WriteString("#!/bin/sh\n")
 	fmt.Fprintf(&b, "#SBATCH --job-name=sweep-%s\n", token)
@@ -112,6 +112,9 @@ func batchScript(r *recipe.Recipe, s recipe.Stage, vdir, token string) string {
 	}
 	fmt.Fprintf(&b, "echo \"=== sweep: stage %s of $SWEEP_VARIANT_LABEL, Slurm job $SLURM_JOB_ID on $(hostname), started $(date) ===\"\n", s.Name)
 	argv := s.Argv
+	if again && s.ContinueArgv != nil {
+		argv = s.ContinueArgv
+	}
 	if argv[0] == recipe.SelfProgram && !s.Shell {
 		argv = append([]string{"$SWEEP_BIN"}, argv[1:]...)
 	}
@@ -298,7 +301,7 @@ func (sr *slurmRun) submitReady() error {
 		for k, j := range chain {
 			s := d.r.Stages[j.Index]
 			script := filepath.Join(vdir, ".sweep-"+s.Name+".sbatch")
-			if err := os.WriteFile(script, []byte(batchScript(d.r, s, vdir, j.Token)), 0o644); err != nil {
+			if err := os.WriteFile(script, []byte(batchScript(d.r, s, vdir, j.Token, j.Attempts > 0 || j.Interrupts > 0)), 0o644); err != nil {
 				return sr.unsubmit(chain[k:], err)
 			}
 			args := []string{"--parsable"}
