@@ -89,7 +89,7 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 		if err != nil {
 			return usageError{err}
 		}
-		vs, err := results.Harvest(cmd.Context(), r, st, nil)
+		vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
 		if err != nil {
 			return err
 		}

@@ -59,7 +59,7 @@ func meshStudy(cmd *cobra.Command, dir, quantity string) ([]results.MeshGroup, *
 	if err != nil {
 		return nil, nil, nil, usageError{err}
 	}
-	vs, err := results.Harvest(cmd.Context(), r, st, nil)
+	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
 	if err != nil {
 		return nil, nil, nil, err
 	}

@@ -41,7 +41,7 @@ results/summary.json and results/summary.csv.`,
 				return err
 			}
 			defer st.Close()
-			vs, err := results.Harvest(cmd.Context(), r, st, nil)
+			vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
 			if err != nil {
 				return err
 			}

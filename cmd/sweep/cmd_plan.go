@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
 
 	"github.com/spf13/cobra"
 
@@ -18,6 +19,7 @@ import (
 type planOptions struct {
 	dryRun    bool
 	json      bool
+	csv       bool
 	add       int
 	criterion string
 	quantity  string
@@ -45,6 +47,7 @@ its results.`,
 	cmd.Flags().StringVar(&opts.quantity, "quantity", "", "with --add: the quantity (default: the objective)")
 	cmd.Flags().Uint64Var(&opts.seed, "seed", 1, "with --add: seed of the search for new points")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the result as JSON")
+	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print the variants as CSV")
 	return cmd
 }
 
@@ -69,13 +72,16 @@ func runPlan(cmd *cobra.Command, opts planOptions, dir string) error {
 			return err
 		}
 	}
-	res, err := plan.Plan(cmd.Context(), r, plan.Options{DryRun: opts.dryRun, Extra: extra})
+	res, err := plan.Plan(cmd.Context(), r, plan.Options{DryRun: opts.dryRun, Extra: extra, Progress: ui.NewCounter(os.Stderr, "rendering")})
 	if err != nil {
 		return err
 	}
 	out := cmd.OutOrStdout()
 	if opts.json {
 		return ui.JSON(out, planJSON(r, res, opts.dryRun))
+	}
+	if opts.csv {
+		return ui.CSV(out, planTable(r, res, opts.dryRun))
 	}
 	printPlan(out, r, res, opts.dryRun)
 	return nil
@@ -100,7 +106,7 @@ func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions)
 		return nil, err
 	}
 	defer st.Close()
-	vs, err := results.Harvest(cmd.Context(), r, st, nil)
+	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
 	if err != nil {
 		return nil, err
 	}
@@ -140,6 +146,11 @@ func paramMap(r *recipe.Recipe, vals []recipe.Value) map[string]any {
 }
 
 func printPlan(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool) {
+	ui.Table(w, planTable(r, res, dry))
+	printPlanSummary(w, r, res, dry)
+}
+
+func planTable(r *recipe.Recipe, res *plan.Result, dry bool) [][]string {
 	header := []string{"variant", "name"}
 	for _, p := range r.Params {
 		h := p.Name
@@ -166,7 +177,10 @@ func printPlan(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool) {
 		}
 		rows = append(rows, line)
 	}
-	ui.Table(w, rows)
+	return rows
+}
+
+func printPlanSummary(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool) {
 	verb := "planned"
 	if dry {
 		verb = "would plan (dry run, nothing written)"

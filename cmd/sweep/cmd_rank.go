@@ -56,7 +56,7 @@ func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
 	if err != nil {
 		return usageError{err}
 	}
-	vs, err := results.Harvest(cmd.Context(), r, st, nil)
+	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
 	if err != nil {
 		return err
 	}

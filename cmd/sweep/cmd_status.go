@@ -14,6 +14,7 @@ import (
 
 type statusOptions struct {
 	json    bool
+	csv     bool
 	refresh bool
 }
 
@@ -38,6 +39,7 @@ failed, pending, running) and "variants" (id, label, state, params, ...).`,
 		},
 	}
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the status as JSON")
+	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print the status as CSV")
 	cmd.Flags().BoolVar(&opts.refresh, "refresh", false, "slurm: ask Slurm about the study's jobs first (and submit what is ready)")
 	return cmd
 }
@@ -79,6 +81,9 @@ func runStatus(w io.Writer, opts statusOptions, dir string) error {
 		}
 		line = append(line, state, dash(v.Stage), note)
 		rows = append(rows, line)
+	}
+	if opts.csv {
+		return ui.CSV(w, rows)
 	}
 	ui.Table(w, rows)
 	c := rep.Counts

@@ -7,6 +7,7 @@ import (
 	"sync"
 	"time"
 
+	"github.com/schollz/progressbar/v3"
 	"golang.org/x/term"
 
 	"github.com/sweep-cfd/sweep/internal/runner"
@@ -16,6 +17,7 @@ import (
 // place; otherwise a line every few seconds. Events are printed on their
 // own lines in both cases.
 type RunProgress struct {
+	bar      *progressbar.ProgressBar // on a terminal
 	mu       sync.Mutex
 	w        io.Writer
 	tty      bool
@@ -44,7 +46,13 @@ func (p *RunProgress) Update(s runner.Snapshot) {
 	line := fmt.Sprintf("%d/%d done, %d running, %d failed, %d pending, %s elapsed%s",
 		s.Done, s.Total, s.Running, s.Failed, s.Pending, Duration(s.Elapsed), left(s))
 	if p.tty {
-		fmt.Fprintf(p.w, "\r\033[K%s", line)
+		if p.bar == nil {
+			p.bar = progressbar.NewOptions(s.Total, progressbar.OptionSetWriter(p.w), progressbar.OptionSetWidth(24),
+				progressbar.OptionShowCount(), progressbar.OptionSetPredictTime(false), progressbar.OptionClearOnFinish(),
+				progressbar.OptionThrottle(100*time.Millisecond))
+		}
+		p.bar.Describe(fmt.Sprintf("%d running, %d failed, %s elapsed%s", s.Running, s.Failed, Duration(s.Elapsed), left(s)))
+		p.bar.Set(s.Done + s.Failed)
 		p.pending = true
 		return
 	}
@@ -59,8 +67,8 @@ func (p *RunProgress) Update(s runner.Snapshot) {
 func (p *RunProgress) Event(msg string) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
-	if p.pending {
-		fmt.Fprint(p.w, "\r\033[K")
+	if p.bar != nil {
+		p.bar.Clear()
 	}
 	fmt.Fprintln(p.w, msg)
 }
@@ -69,10 +77,11 @@ func (p *RunProgress) Event(msg string) {
 func (p *RunProgress) Finish() {
 	p.mu.Lock()
 	defer p.mu.Unlock()
-	if p.pending {
-		fmt.Fprintln(p.w)
-		p.pending = false
+	if p.bar != nil {
+		p.bar.Finish()
+		p.bar = nil
 	}
+	p.pending = false
 }
 
 func left(s runner.Snapshot) string {
@@ -94,3 +103,41 @@ func Duration(d time.Duration) string {
 		return fmt.Sprintf("%dh%02dm", int(d.Hours()), int(d.Minutes())%60)
 	}
 }
+
+// Counter shows the progress of counted work (rendering variants,
+// harvesting them) as a bar on a terminal, and nothing elsewhere.
+type Counter struct {
+	bar *progressbar.ProgressBar
+	w   io.Writer
+	tty bool
+	mu  sync.Mutex
+}
+
+// NewCounter prints to w, labelled with what.
+func NewCounter(w io.Writer, what string) *Counter {
+	c := &Counter{w: w}
+	if f, ok := w.(*os.File); ok {
+		c.tty = term.IsTerminal(int(f.Fd()))
+	}
+	return c
+}
+
+// Step reports that done of total items are finished.
+func (c *Counter) Step(done, total int) {
+	if !c.tty || total < 20 {
+		return
+	}
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if c.bar == nil {
+		c.bar = progressbar.NewOptions(total, progressbar.OptionSetWriter(c.w), progressbar.OptionSetWidth(24),
+			progressbar.OptionShowCount(), progressbar.OptionClearOnFinish(), progressbar.OptionThrottle(100*time.Millisecond))
+	}
+	c.bar.Set(done)
+	if done == total {
+		c.bar.Finish()
+	}
+}
+
+// Rendered implements plan.Progress.
+func (c *Counter) Rendered(done, total int) { c.Step(done, total) }
