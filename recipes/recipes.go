@@ -50,6 +50,12 @@ func Write(name, dir string) error {
 	if _, err := fs.Stat(root, "study.toml"); err != nil {
 		return fmt.Errorf("no shipped study named %q (have: %v)", name, Names())
 	}
+	return WriteFS(root, dir)
+}
+
+// WriteFS copies a study held in root into dir, which must be empty or
+// absent. Scripts (*.sh) keep an executable bit.
+func WriteFS(root fs.FS, dir string) error {
 	if ents, err := os.ReadDir(dir); err == nil && len(ents) > 0 {
 		return fmt.Errorf("%s is not empty; choose a new directory for the study", dir)
 	} else if err != nil && !errors.Is(err, fs.ErrNotExist) {

@@ -9,7 +9,6 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/sweep-cfd/sweep/internal/fit"
-	"github.com/sweep-cfd/sweep/internal/results"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -79,20 +78,12 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 		}
 		rep.Response = opts.response
 	} else {
-		dir := studyDir(args)
-		r, st, err := openStudy(dir)
+		h, err := harvestStudy(cmd, studyDir(args), opts.quantity)
 		if err != nil {
 			return err
 		}
-		defer st.Close()
-		q, err := r.Objective(opts.quantity)
-		if err != nil {
-			return usageError{err}
-		}
-		vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
-		if err != nil {
-			return err
-		}
+		defer h.st.Close()
+		r, q, vs := h.r, h.q, h.vs
 		d, cols, left, err := fit.StudyData(r, vs, q.Name)
 		if err != nil {
 			return err

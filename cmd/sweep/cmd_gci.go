@@ -50,21 +50,13 @@ flagged. Each setup of the other parameters is analysed on its own.`,
 }
 
 func meshStudy(cmd *cobra.Command, dir, quantity string) ([]results.MeshGroup, *recipe.Recipe, *recipe.Quantity, error) {
-	r, st, err := openStudy(dir)
+	h, err := harvestStudy(cmd, dir, quantity)
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	defer st.Close()
-	q, err := r.Objective(quantity)
-	if err != nil {
-		return nil, nil, nil, usageError{err}
-	}
-	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
-	if err != nil {
-		return nil, nil, nil, err
-	}
-	groups, err := results.MeshStudy(r, vs, q.Name)
-	return groups, r, q, err
+	defer h.st.Close()
+	groups, err := results.MeshStudy(h.r, h.vs, h.q.Name)
+	return groups, h.r, h.q, err
 }
 
 func printGCI(w io.Writer, r *recipe.Recipe, q *recipe.Quantity, groups []results.MeshGroup) {

@@ -66,6 +66,35 @@ results/summary.json and results/summary.csv.`,
 	return cmd
 }
 
+// harvested is a study harvested for one quantity: what rank, report,
+// gci and fit start from.
+type harvested struct {
+	r  *recipe.Recipe
+	st *store.Store
+	q  *recipe.Quantity
+	vs []results.Variant
+}
+
+// harvestStudy opens the study in dir, picks the quantity (default: the
+// objective) and harvests every variant. The caller closes h.st.
+func harvestStudy(cmd *cobra.Command, dir, quantity string) (*harvested, error) {
+	r, st, err := openStudy(dir)
+	if err != nil {
+		return nil, err
+	}
+	q, err := r.Objective(quantity)
+	if err != nil {
+		st.Close()
+		return nil, usageError{err}
+	}
+	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
+	if err != nil {
+		st.Close()
+		return nil, err
+	}
+	return &harvested{r, st, q, vs}, nil
+}
+
 // openStudy loads a planned study's recipe and opens its database for
 // brief transactions (so it works beside a running `sweep run`).
 func openStudy(dir string) (*recipe.Recipe, *store.Store, error) {

@@ -47,19 +47,12 @@ in percent.`,
 }
 
 func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
-	r, st, err := openStudy(dir)
+	h, err := harvestStudy(cmd, dir, opts.by)
 	if err != nil {
 		return err
 	}
-	defer st.Close()
-	q, err := r.Objective(opts.by)
-	if err != nil {
-		return usageError{err}
-	}
-	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
-	if err != nil {
-		return err
-	}
+	defer h.st.Close()
+	r, q, vs := h.r, h.q, h.vs
 	if opts.baseline != "" && !hasLabel(vs, opts.baseline) {
 		return usageError{fmt.Errorf("no variant %q in the study; see `sweep status %s`", opts.baseline, dir)}
 	}

@@ -51,20 +51,13 @@ and travels by e-mail.`,
 }
 
 func runReport(cmd *cobra.Command, opts reportOptions, dir string) error {
-	r, st, err := openStudy(dir)
+	h, err := harvestStudy(cmd, dir, opts.by)
 	if err != nil {
 		return err
 	}
-	defer st.Close()
-	q, err := r.Objective(opts.by)
-	if err != nil {
-		return usageError{err}
-	}
-	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
-	if err != nil {
-		return err
-	}
-	rep, err := runner.Status(st, r.Name)
+	defer h.st.Close()
+	r, q, vs := h.r, h.q, h.vs
+	rep, err := runner.Status(h.st, r.Name)
 	if err != nil {
 		return err
 	}
