@@ -21,6 +21,7 @@ type fitOptions struct {
 	maximize bool
 	seed     uint64
 	json     bool
+	csv      bool
 }
 
 func newFitCmd() *cobra.Command {
@@ -56,6 +57,7 @@ column per parameter plus the response), for results from elsewhere.`,
 	f.BoolVar(&opts.maximize, "maximize", false, "with --table: the optimum is a maximum (a study uses its quantity's goal)")
 	f.Uint64Var(&opts.seed, "seed", 1, "seed of the optimiser's starts and the sensitivity samples")
 	f.BoolVar(&opts.json, "json", false, "print the fit as JSON")
+	f.BoolVar(&opts.csv, "csv", false, "print the terms (polynomial) or the sensitivities as CSV")
 	return cmd
 }
 
@@ -97,6 +99,19 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 	}
 	if opts.json {
 		return ui.JSON(cmd.OutOrStdout(), rep)
+	}
+	if opts.csv {
+		rows := [][]string{{"term", "coef", "stderr"}}
+		for _, t := range rep.Terms {
+			rows = append(rows, []string{t.Name, fmt.Sprintf("%.15g", t.Coef), fmt.Sprintf("%.6g", t.StdErr)})
+		}
+		if len(rep.Terms) == 0 {
+			rows = [][]string{{"param", "first", "first_se", "total", "total_se"}}
+			for _, x := range rep.Sensitivities {
+				rows = append(rows, []string{x.Param, fmt.Sprintf("%.6g", x.First), fmt.Sprintf("%.3g", x.FirstSE), fmt.Sprintf("%.6g", x.Total), fmt.Sprintf("%.3g", x.TotalSE)})
+			}
+		}
+		return ui.CSV(cmd.OutOrStdout(), rows)
 	}
 	printFit(cmd.OutOrStdout(), rep)
 	return nil

@@ -16,6 +16,7 @@ import (
 type gciOptions struct {
 	quantity string
 	json     bool
+	csv      bool
 }
 
 func newGCICmd() *cobra.Command {
@@ -40,12 +41,16 @@ flagged. Each setup of the other parameters is analysed on its own.`,
 			if opts.json {
 				return ui.JSON(cmd.OutOrStdout(), groups)
 			}
+			if opts.csv {
+				return ui.CSV(cmd.OutOrStdout(), gciTable(groups))
+			}
 			printGCI(cmd.OutOrStdout(), r, q, groups)
 			return nil
 		},
 	}
 	cmd.Flags().StringVar(&opts.quantity, "quantity", "", "the quantity (default: the objective)")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the analysis as JSON")
+	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print one row per setup as CSV")
 	return cmd
 }
 
@@ -118,4 +123,32 @@ func meshGCI(cmd *cobra.Command, dir, quantity string) (float64, error) {
 		}
 	}
 	return 0, fmt.Errorf("--mesh-study %s: no setup converges on its grids; no discretisation uncertainty can be estimated", dir)
+}
+
+// gciTable is one row per setup: its grids' values and the estimate.
+func gciTable(groups []results.MeshGroup) [][]string {
+	rows := [][]string{{"setup", "phi1", "phi2", "phi3", "r21", "r32", "order", "extrapolated", "e_a21", "e_ext21", "gci_fine21", "convergence", "error"}}
+	for _, g := range groups {
+		var setup []string
+		for k, v := range g.Setup {
+			setup = append(setup, fmt.Sprintf("%s=%v", k, v))
+		}
+		row := []string{strings.Join(setup, " ")}
+		for i := range 3 {
+			if i < len(g.Means) {
+				row = append(row, fmt.Sprintf("%.10g", g.Means[i]))
+			} else {
+				row = append(row, "")
+			}
+		}
+		res := g.Result
+		if g.Error != "" {
+			row = append(row, "", "", "", "", "", "", "", "", g.Error)
+		} else {
+			row = append(row, fmt.Sprintf("%.6g", res.R21), fmt.Sprintf("%.6g", res.R32), fmt.Sprintf("%.6g", res.Order), fmt.Sprintf("%.10g", res.Extrap),
+				fmt.Sprintf("%.6g", res.RelErr), fmt.Sprintf("%.6g", res.ExtrapErr), fmt.Sprintf("%.6g", res.GCIFine), res.Convergence, "")
+		}
+		rows = append(rows, row)
+	}
+	return rows
 }

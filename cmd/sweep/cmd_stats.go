@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -20,6 +21,7 @@ type statsOptions struct {
 	rel     float64
 	start   float64
 	json    bool
+	csv     bool
 }
 
 func newStatsCmd() *cobra.Command {
@@ -62,6 +64,14 @@ one, and a verdict against the tolerance.`,
 				if jerr := ui.JSON(out, res); jerr != nil {
 					return jerr
 				}
+			} else if opts.csv {
+				f := func(x float64) string { return strconv.FormatFloat(x, 'g', 10, 64) }
+				if cerr := ui.CSV(out, [][]string{
+					{"file", "column", "mean", "half_width", "samples", "effective_samples", "transient_end", "period", "verdict"},
+					{args[0], opts.column, f(res.Mean), f(res.HalfWidth), strconv.Itoa(res.Samples), f(res.EffectiveSamples), f(res.TransientEnd), f(res.Period), string(res.Verdict)},
+				}); cerr != nil {
+					return cerr
+				}
 			} else {
 				printStats(out, args[0], opts.column, res)
 			}
@@ -81,6 +91,7 @@ one, and a verdict against the tolerance.`,
 	cmd.Flags().Float64Var(&opts.rel, "relative-tolerance", 0, "tolerance on the half-width relative to |mean| (default 0.01 when no tolerance is given)")
 	cmd.Flags().Float64Var(&opts.start, "start", 0, "average from this time on instead of detecting the transient")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the analysis as JSON")
+	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print the analysis as one CSV row")
 	return cmd
 }
 
