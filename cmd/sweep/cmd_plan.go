@@ -127,22 +127,10 @@ func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions)
 func planJSON(r *recipe.Recipe, res *plan.Result, dry bool) any {
 	rows := make([]planRowJSON, len(res.Rows))
 	for i, row := range res.Rows {
-		rows[i] = planRowJSON{ID: row.ID, Label: row.Label, Name: row.Name, Params: paramMap(r, row.Values), New: row.New}
+		rows[i] = planRowJSON{ID: row.ID, Label: row.Label, Name: row.Name, Params: plan.Data(r, row.Values), New: row.New}
 	}
 	return map[string]any{"dry_run": dry, "design": res.Design, "added": res.Added, "kept": res.Kept, "duplicates": res.Duplicates,
 		"retired": res.Retired, "variants": rows}
-}
-
-func paramMap(r *recipe.Recipe, vals []recipe.Value) map[string]any {
-	m := make(map[string]any, len(vals))
-	for i, p := range r.Params {
-		if vals[i].IsText() {
-			m[p.Name] = vals[i].Text
-		} else {
-			m[p.Name] = vals[i].Num
-		}
-	}
-	return m
 }
 
 func printPlan(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool) {

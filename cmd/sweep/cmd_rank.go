@@ -39,7 +39,7 @@ in percent.`,
 		},
 	}
 	cmd.Flags().StringVar(&opts.by, "by", "", "the quantity to rank by (default: the recipe's objective)")
-	cmd.Flags().StringVar(&opts.baseline, "baseline", "", "compare every variant with this one (a label such as v001)")
+	cmd.Flags().StringVar(&opts.baseline, "baseline", "", "compare every variant with this one (a label such as v001, or its id)")
 	cmd.Flags().StringVar(&opts.mesh, "mesh-study", "", "a grid-convergence study of the same setup: also say whether differences exceed the discretisation uncertainty")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the ranking as JSON (a list, best first)")
 	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print the ranking as CSV")
@@ -53,8 +53,12 @@ func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
 	}
 	defer h.st.Close()
 	r, q, vs := h.r, h.q, h.vs
-	if opts.baseline != "" && !hasLabel(vs, opts.baseline) {
-		return usageError{fmt.Errorf("no variant %q in the study; see `sweep status %s`", opts.baseline, dir)}
+	if opts.baseline != "" {
+		label, ok := variantLabel(vs, opts.baseline)
+		if !ok {
+			return usageError{fmt.Errorf("no variant %q in the study (give a label such as v001, or an id); see `sweep status %s`", opts.baseline, dir)}
+		}
+		opts.baseline = label
 	}
 	rk := results.Rank(vs, q.Name, q.Goal != "maximize", opts.baseline)
 	if opts.mesh != "" {
@@ -78,13 +82,14 @@ func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
 	return nil
 }
 
-func hasLabel(vs []results.Variant, label string) bool {
+// variantLabel finds a variant by its label or its id.
+func variantLabel(vs []results.Variant, ref string) (string, bool) {
 	for _, v := range vs {
-		if v.Label == label {
-			return true
+		if v.Label == ref || v.ID == ref {
+			return v.Label, true
 		}
 	}
-	return false
+	return "", false
 }
 
 func rankTable(r *recipe.Recipe, q *recipe.Quantity, rk results.Ranking, withBase bool) [][]string {

@@ -61,6 +61,13 @@ func runReport(cmd *cobra.Command, opts reportOptions, dir string) error {
 	if err != nil {
 		return err
 	}
+	if opts.baseline != "" {
+		label, ok := variantLabel(vs, opts.baseline)
+		if !ok {
+			return usageError{fmt.Errorf("no variant %q in the study; see `sweep status %s`", opts.baseline, dir)}
+		}
+		opts.baseline = label
+	}
 	s := buildReport(r, q, vs, rep, opts.baseline)
 	var buf bytes.Buffer
 	if err := report.Render(&buf, s); err != nil {
@@ -104,33 +111,19 @@ func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st 
 			Mean: row.Mean, HalfWidth: row.HalfWidth, Verdict: row.Verdict, Group: row.Group,
 			Delta: row.Delta, DeltaHalfWidth: row.DeltaHalfWidth, ChangePercent: row.ChangePercent})
 	}
-	jobs := map[string][]struct {
-		runtime time.Duration
-		cores   int
-		reason  string
-		tail    []string
-	}{}
+	jobs := map[string][]store.Job{}
 	for _, v := range st.Variants {
-		for _, j := range v.Jobs {
-			x := struct {
-				runtime time.Duration
-				cores   int
-				reason  string
-				tail    []string
-			}{cores: j.Cores, reason: j.Reason, tail: j.Tail}
-			if !j.Ended.IsZero() && !j.Started.IsZero() {
-				x.runtime = j.Ended.Sub(j.Started)
-			}
-			jobs[v.Label] = append(jobs[v.Label], x)
-		}
+		jobs[v.Label] = v.Jobs
 	}
 	for _, v := range vs {
 		rv := report.Variant{Label: v.Label, Name: v.Name, State: string(v.State), Params: strParams(v.Params)}
 		for _, j := range jobs[v.Label] {
-			rv.Runtime += j.runtime
-			rv.Cores = max(rv.Cores, j.cores)
-			if v.State == store.Failed && j.reason != "" {
-				rv.ExitStatus, rv.LogTail = j.reason, j.tail
+			if !j.Ended.IsZero() && !j.Started.IsZero() {
+				rv.Runtime += j.Ended.Sub(j.Started)
+			}
+			rv.Cores = max(rv.Cores, j.Cores)
+			if j.State == store.Failed {
+				rv.ExitStatus, rv.LogTail = j.Reason, j.Tail
 			}
 		}
 		for _, qq := range r.Quantities {

@@ -68,10 +68,7 @@ func StudyData(r *recipe.Recipe, vs []results.Variant, quantity string) (surface
 		for j, c := range cols {
 			x[j] = v.Values[c].Num
 		}
-		se := res.StdError
-		if res.Method == "bound" || se == 0 {
-			se = res.HalfWidth / 1.959963984540054
-		}
+		se := res.Estimate().StdError
 		if !(se > 0) {
 			se = math.Max(1e-12, 1e-9*math.Abs(res.Mean))
 		}

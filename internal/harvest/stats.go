@@ -151,13 +151,15 @@ type Result struct {
 }
 
 // Estimate returns the mean, standard error and degrees of freedom for
-// comparisons; a steady bound counts as a normal error (infinite dof).
+// comparisons and fits. A steady result's interval is a bound, not a
+// statistical interval: it is read as a normal error (infinite dof) of
+// half-width/1.96, so steady variants can still be told apart by more
+// than their bounds.
 func (r Result) Estimate() Estimate {
-	dof := r.Dof
-	if dof == 0 {
-		dof = math.Inf(1)
+	if r.Method == "bound" || r.Dof == 0 {
+		return Estimate{Mean: r.Mean, StdError: r.HalfWidth / distuv.UnitNormal.Quantile(0.975), Dof: math.Inf(1)}
 	}
-	return Estimate{Mean: r.Mean, StdError: r.StdError, Dof: dof}
+	return Estimate{Mean: r.Mean, StdError: r.StdError, Dof: r.Dof}
 }
 
 // tQuantile returns the two-sided Student t quantile for confidence conf.

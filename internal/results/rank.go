@@ -56,17 +56,6 @@ type Excluded struct {
 	Reason string `json:"reason"`
 }
 
-// estimate turns a harvested result into the estimate used in tests. A
-// steady result's interval is a bound, not a statistical interval; it is
-// read as a normal error of half-width/1.96 so that steady variants can
-// still be told apart by more than their bounds.
-func estimate(r harvest.Result) harvest.Estimate {
-	if r.Method == "bound" || r.Dof == 0 {
-		return harvest.Estimate{Mean: r.Mean, StdError: r.HalfWidth / 1.959963984540054, Dof: math.Inf(1)}
-	}
-	return r.Estimate()
-}
-
 // Rank orders the variants by the quantity's mean (ascending when
 // minimize), with compact-letter significance groups from Welch's test at
 // 95 %. With a baseline label, each row also carries its difference from
@@ -91,12 +80,12 @@ func Rank(vs []Variant, quantity string, minimize bool, baseline string) Ranking
 			continue
 		}
 		byLabel[v.Label] = v
-		cands = append(cands, harvest.Candidate{Name: v.Label, Estimate: estimate(res)})
+		cands = append(cands, harvest.Candidate{Name: v.Label, Estimate: res.Estimate()})
 	}
 	ranked := harvest.Rank(cands, minimize, Confidence)
 	var base *harvest.Estimate
 	if b, ok := byLabel[baseline]; ok {
-		e := estimate(b.Results[quantity])
+		e := b.Results[quantity].Estimate()
 		base = &e
 	}
 	for _, r := range ranked {
@@ -106,7 +95,7 @@ func Rank(vs []Variant, quantity string, minimize bool, baseline string) Ranking
 			HalfWidth: res.HalfWidth, StdError: res.StdError, Verdict: string(res.Verdict),
 			Group: strings.Join(r.Groups, ""), TiedWithBest: r.TiedWithBest}
 		if base != nil {
-			d := harvest.Compare(*base, estimate(res), Confidence)
+			d := harvest.Compare(*base, res.Estimate(), Confidence)
 			pct := 100 * harvest.RelativeChange(base.Mean, res.Mean)
 			row.Delta, row.DeltaHalfWidth, row.ChangePercent, row.Significant = &d.Delta, &d.HalfWidth, &pct, &d.Significant
 		}

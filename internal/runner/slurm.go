@@ -365,8 +365,10 @@ func (sr *slurmRun) poll() error {
 		}
 	}
 	var changed []*store.Job
+	var touched []*active
 	var cancel []string
 	for id, a := range byID {
+		touched = append(touched, a)
 		stt, known := states[id]
 		vdir := plan.Dir(d.r.Dir, a.vs.v.Label)
 		var ended, ok bool
@@ -432,15 +434,18 @@ func (sr *slurmRun) poll() error {
 			return err
 		}
 	}
-	// Variants whose chain has ended with stages left (a retry, a stage
-	// after a failure) are ready again unless a stage failed for good.
-	for _, vs := range d.q.all {
-		inReady := false
-		for _, x := range d.q.ready {
-			inReady = inReady || x == vs
-		}
-		if !inReady && sr.readyToSubmit(vs) && !sr.inSlurm(vs) {
-			d.q.ready = append(d.q.ready, vs)
+	// A variant whose chain ended with stages left (a retry, the stages
+	// after a failure) is ready again, unless a stage failed for good or
+	// one is still in Slurm (readyToSubmit); only variants with a job
+	// that changed in this poll can have become ready.
+	seen := map[*vstate]bool{}
+	for _, x := range d.q.ready {
+		seen[x] = true
+	}
+	for _, a := range touched {
+		if !seen[a.vs] && sr.readyToSubmit(a.vs) {
+			seen[a.vs] = true
+			d.q.ready = append(d.q.ready, a.vs)
 		}
 	}
 	return nil
@@ -486,15 +491,6 @@ func (sr *slurmRun) earlyStop(a *active, vdir string) {
 		return
 	}
 	sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: averages converged, stopping it (%s)", a.vs.v.Label, a.stage.Name, strings.Join(parts, "; ")))
-}
-
-func (sr *slurmRun) inSlurm(vs *vstate) bool {
-	for _, a := range sr.d.running {
-		if a.vs == vs {
-			return true
-		}
-	}
-	return false
 }
 
 // CancelSlurm cancels every job of the study that is in Slurm (one scancel
