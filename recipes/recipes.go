@@ -8,7 +8,7 @@
 //     case 2D-1) at three lattice resolutions, for a grid-convergence
 //     study.
 //
-// Both run the built-in solver (`sweep flow2d`), so they need nothing but
+// Both run the built-in solver (`sweep lbm`), so they need nothing but
 // this program. A third study in this directory, cylinder-gerris, drives
 // an external solver (Debian's gerris2D); it is not embedded, since it
 // needs that solver installed.

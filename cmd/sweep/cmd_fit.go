@@ -54,7 +54,7 @@ column per parameter plus the response), for results from elsewhere.`,
 	f.StringVar(&opts.terms, "terms", "", `polynomial terms, e.g. "1, x, x^2, x^3" (overrides --model)`)
 	f.StringVar(&opts.table, "table", "", "fit this CSV table instead of a study")
 	f.StringVar(&opts.response, "response", "", "with --table: the response column")
-	f.BoolVar(&opts.maximize, "maximize", false, "with --table: the optimum is a maximum (a study uses its quantity's goal)")
+	f.BoolVar(&opts.maximize, "higher-better", false, "with --table: higher responses are better, so the optimum is a maximum (a study uses its quantity's better = ...)")
 	f.Uint64Var(&opts.seed, "seed", 1, "seed of the optimiser's starts and the sensitivity samples")
 	f.BoolVar(&opts.json, "json", false, "print the fit as JSON")
 	f.BoolVar(&opts.csv, "csv", false, "print the terms (polynomial) or the sensitivities as CSV")
@@ -90,7 +90,7 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 		if err != nil {
 			return err
 		}
-		rep, err = fit.Fit(d, fit.Options{Model: opts.model, Terms: opts.terms, Maximize: q.Goal == "maximize",
+		rep, err = fit.Fit(d, fit.Options{Model: opts.model, Terms: opts.terms, Maximize: !q.LowerIsBetter(),
 			Feasible: fit.Feasible(r, cols, vs), Seed: opts.seed})
 		if err != nil {
 			return fmt.Errorf("fit %s: %w", q.Name, err)

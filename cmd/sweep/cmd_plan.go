@@ -117,7 +117,7 @@ func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions)
 	if len(d.Y) < 3 {
 		return nil, fmt.Errorf("--add needs at least 3 converged variants to fit a surface (the study has %d); run the design first", len(d.Y))
 	}
-	pts, _, err := fit.Next(r, d, cols, vs, opts.add, opts.criterion, q.Goal == "maximize", opts.seed)
+	pts, _, err := fit.Next(r, d, cols, vs, opts.add, opts.criterion, !q.LowerIsBetter(), opts.seed)
 	if err != nil {
 		return nil, err
 	}

@@ -14,7 +14,6 @@ import (
 type rankOptions struct {
 	by       string
 	baseline string
-	maximize bool
 	mesh     string
 	json     bool
 	csv      bool
@@ -27,8 +26,8 @@ func newRankCmd() *cobra.Command {
 		Short: "Order the variants by an averaged quantity, with significance groups",
 		Long: `rank harvests the study (see harvest) and orders its variants by the mean
 of a quantity (--by; default the recipe's objective: the first quantity
-with a goal, else the first), best first, minimising unless the quantity's
-goal is "maximize". Variants that share a group letter are not
+that says which values are better, else the first), best first: lowest
+first unless the quantity says better = "higher". Variants that share a group letter are not
 distinguishable at 95 % (Welch's test on the two means with their
 effective degrees of freedom). With --baseline LABEL every variant also
 shows its difference from that variant, with its interval, and the change
@@ -60,7 +59,7 @@ func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
 		}
 		opts.baseline = label
 	}
-	rk := results.Rank(vs, q.Name, q.Goal != "maximize", opts.baseline)
+	rk := results.Rank(vs, q.Name, q.LowerIsBetter(), opts.baseline)
 	if opts.mesh != "" {
 		g, err := meshGCI(cmd, opts.mesh, q.Name)
 		if err != nil {
@@ -136,7 +135,7 @@ func rankTable(r *recipe.Recipe, q *recipe.Quantity, rk results.Ranking, withBas
 }
 
 func printRank(w io.Writer, r *recipe.Recipe, q *recipe.Quantity, rk results.Ranking, baseline string) {
-	fmt.Fprintf(w, "ranked by %s (%s), best first\n\n", q.Name, rk.Goal)
+	fmt.Fprintf(w, "ranked by %s (%s is better), best first\n\n", q.Name, rk.Better)
 	ui.Table(w, rankTable(r, q, rk, baseline != ""))
 	if len(rk.Rows) > 1 {
 		fmt.Fprintln(w, "\nvariants sharing a group letter are not distinguishable at 95 % (Welch's test)")

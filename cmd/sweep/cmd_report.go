@@ -85,12 +85,12 @@ func runReport(cmd *cobra.Command, opts reportOptions, dir string) error {
 }
 
 func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st *runner.Report, baseline string) report.Study {
-	s := report.Study{Name: r.Name, Description: r.Description, Generated: time.Now(), Objective: q.Name, Goal: q.Goal,
+	s := report.Study{Name: r.Name, Description: r.Description, Generated: time.Now(), Objective: q.Name, Better: q.Direction.String(),
 		Caution:  "These results need validation — mesh and time-step checks, comparison with trusted references and review by qualified people — before they steer a decision; local codes and licensed practice prevail.",
 		Counts:   report.Counts{Done: st.Counts.Done, Failed: st.Counts.Failed, Pending: st.Counts.Pending, Running: st.Counts.Running},
 		Baseline: baseline, ObjectiveUnit: q.Unit}
-	if s.Goal == "" {
-		s.Goal = "minimize"
+	if s.Better == "" {
+		s.Better = recipe.Lower.String()
 	}
 	for _, p := range r.Params {
 		rp := report.Param{Name: p.Name, Kind: p.Kind.String(), Unit: p.Unit}
@@ -104,8 +104,8 @@ func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st 
 		}
 		s.Params = append(s.Params, rp)
 	}
-	s.Design = fmt.Sprintf("%s, %d variants", r.Design.Method, len(vs))
-	rk := results.Rank(vs, q.Name, q.Goal != "maximize", baseline)
+	s.Design = fmt.Sprintf("%s, %d variants", r.Design.Scheme, len(vs))
+	rk := results.Rank(vs, q.Name, q.LowerIsBetter(), baseline)
 	for _, row := range rk.Rows {
 		s.Ranking = append(s.Ranking, report.RankRow{Rank: row.Rank, Label: row.Label, Name: row.Name, Params: strParams(row.Params),
 			Mean: row.Mean, HalfWidth: row.HalfWidth, Verdict: row.Verdict, Group: row.Group,
@@ -170,7 +170,7 @@ func reportSurface(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant) *
 	if err != nil || len(d.Y) < 4 {
 		return nil
 	}
-	opts := fit.Options{Maximize: q.Goal == "maximize", Feasible: fit.Feasible(r, cols, vs), Seed: 1}
+	opts := fit.Options{Maximize: !q.LowerIsBetter(), Feasible: fit.Feasible(r, cols, vs), Seed: 1}
 	fr, err := fit.Fit(d, opts)
 	if err != nil {
 		opts.Model = "kriging"

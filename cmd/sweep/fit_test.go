@@ -70,7 +70,7 @@ func TestPlanAdd(t *testing.T) {
   for (i = 1; i <= 4000; i++) printf "%d %.6f\n", i, m + 0.002 * (rand() - 0.5) }
 `, 0o644)
 	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
-template = "template"
+base = "template"
 [[param]]
 name = "a"
 min = 0.0
@@ -80,7 +80,7 @@ name = "b"
 min = 0.0
 max = 1.0
 [design]
-method = "latin"
+scheme = "latin"
 count = 10
 seed = 4
 constraints = ["a + b <= 1.6"]
@@ -88,7 +88,7 @@ constraints = ["a + b <= 1.6"]
 name = "drag"
 files = "h.dat"
 value = "Cd"
-goal = "minimize"
+better = "lower"
 tolerance = 0.001
 [[stage]]
 name = "solve"

@@ -99,13 +99,13 @@ func TestKillAndResume(t *testing.T) {
 	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
 	writeFile(t, filepath.Join(dir, "study.toml"), `name = "crash"
 [case]
-template = "template"
+base = "template"
 render = ["case.txt"]
 [[param]]
 name = "k"
-values = [1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12]
+levels = [1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12]
 [design]
-method = "factorial"
+scheme = "factorial"
 [[stage]]
 name = "mesh"
 run = "sh -c 'sleep 0.15; echo $SWEEP_VARIANT_LABEL >> ../../mesh-count'"
@@ -174,13 +174,13 @@ func TestValuesNeverReachShell(t *testing.T) {
 	}
 	writeFile(t, filepath.Join(dir, "template", "case.txt"), "value {{.v}}\n", 0o644)
 	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
-template = "template"
+base = "template"
 render = ["case.txt"]
 [[param]]
 name = "v"
-choices = [`+strings.Join(quoted, ", ")+`]
+levels = [`+strings.Join(quoted, ", ")+`]
 [design]
-method = "factorial"
+scheme = "factorial"
 [[stage]]
 name = "direct"
 run = "sh -c 'printf %s \"$SWEEP_PARAM_V\" > value.txt'"
@@ -253,7 +253,7 @@ func TestStarterStudy(t *testing.T) {
 	b, _ := os.ReadFile(recipe)
 	os.WriteFile(recipe, bytes.Replace(b, []byte("min = 0.0"), []byte("min = 0.5"), 1), 0o644)
 	_, errs, code := sweep(t, "plan", dir)
-	if code != 2 || !strings.Contains(errs, "study.toml:27: parameter \"nose\" has min (0.5) above max (0.3): swap them") {
+	if code != 2 || !strings.Contains(errs, "study.toml:28: parameter \"nose\" has min (0.5) above max (0.3): swap them") {
 		t.Errorf("bad recipe: exit %d, %q", code, errs)
 	}
 }

@@ -25,7 +25,7 @@ func reportStudy(t *testing.T) string {
 `, 0o644)
 	writeFile(t, filepath.Join(dir, "study.toml"), `name = "report check"
 [case]
-template = "template"
+base = "template"
 [[param]]
 name = "a"
 min = 0.0
@@ -35,7 +35,7 @@ name = "b"
 min = 0.0
 max = 1.0
 [design]
-method = "table"
+scheme = "table"
 points = [
   { a = 0.0, b = 0.0 }, { a = 1.0, b = 0.0 }, { a = 0.0, b = 1.0 }, { a = 1.0, b = 1.0 },
   { a = 0.5, b = 0.5, name = "`+hostile+`" }, { a = 0.3, b = 0.6 }, { a = 0.7, b = 0.2 },
@@ -45,7 +45,7 @@ points = [
 name = "drag"
 files = "h.dat"
 value = "Cd"
-goal = "minimize"
+better = "lower"
 tolerance = 0.002
 [[stage]]
 name = "solve"

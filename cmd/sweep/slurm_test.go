@@ -37,13 +37,13 @@ func slurmStudy(t *testing.T, n int, stages string) string {
 	}
 	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
 	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
-template = "template"
+base = "template"
 render = ["case.txt"]
 [[param]]
 name = "k"
-values = [`+strings.Join(vals, ", ")+`]
+levels = [`+strings.Join(vals, ", ")+`]
 [design]
-method = "factorial"
+scheme = "factorial"
 [backend]
 kind = "slurm"
 poll = "1s"
@@ -195,7 +195,7 @@ run = "sleep 600"
 // a solver that writes a noisy history about 1.0 and ends when a file
 // named STOP appears is stopped once its average has converged, and the
 // job is recorded as done, stopped early.
-func TestSlurmEarlyStopFile(t *testing.T) {
+func TestSlurmSettleFile(t *testing.T) {
 	needSlurm(t)
 	dir := slurmStudy(t, 1, `
 [[quantity]]
@@ -207,7 +207,7 @@ tolerance = 0.002
 name = "solve"
 shell = true
 run = "echo '# t y' > h.dat; i=0; while [ ! -f STOP ] && [ $i -lt 600 ]; do awk -v s=$i 'BEGIN { srand(s + 1); for (k = 0; k < 500; k++) printf \"%d %.6f\\n\", s * 500 + k, 1 + 0.1 * (rand() - 0.5) }' >> h.dat; i=$((i+1)); sleep 0.1; done; [ -f STOP ]"
-[stage.early_stop]
+[stage.settle]
 quantities = ["y"]
 every = "1s"
 min_samples = 2000

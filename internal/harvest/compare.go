@@ -191,7 +191,7 @@ func (r Ranked) Label() string {
 	return strings.Join(r.Groups, "")
 }
 
-// Rank sorts candidates best first (smallest mean if minimize, else
+// Rank sorts candidates best first (smallest mean if lowerIsBetter, else
 // largest; ties by name) and labels them with a compact letter display:
 // two variants share a letter if and only if Welch's test (see Compare) at
 // confidence conf does not tell them apart. Each letter is a maximal set of
@@ -209,7 +209,7 @@ func (r Ranked) Label() string {
 // Reference: H.-P. Piepho, "An algorithm for a letter-based representation
 // of all-pairwise comparisons", J. Comput. Graph. Stat. 13(2) (2004)
 // 456–466.
-func Rank(cands []Candidate, minimize bool, conf float64) []Ranked {
+func Rank(cands []Candidate, lowerIsBetter bool, conf float64) []Ranked {
 	n := len(cands)
 	idx := make([]int, n)
 	for i := range idx {
@@ -218,7 +218,7 @@ func Rank(cands []Candidate, minimize bool, conf float64) []Ranked {
 	sort.SliceStable(idx, func(i, j int) bool {
 		a, b := cands[idx[i]], cands[idx[j]]
 		if a.Mean != b.Mean {
-			return (a.Mean < b.Mean) == minimize
+			return (a.Mean < b.Mean) == lowerIsBetter
 		}
 		return a.Name < b.Name
 	})

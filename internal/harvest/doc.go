@@ -33,8 +33,8 @@
 // Welch's test; Rank sorts variants and labels them with letters so that
 // variants sharing a letter cannot be told apart at the chosen confidence.
 //
-// # Early stop
+// # Stopping a settled run
 //
-// EarlyStop harvests a running case and says whether its average already
+// Settled harvests a running case and says whether its average already
 // meets the tolerance.
 package harvest

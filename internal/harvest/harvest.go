@@ -29,7 +29,7 @@ func Harvest(dir string, q Quantity, opts Options) (Result, error) {
 	return r, nil
 }
 
-// EarlyStop is meant for a runner that polls a running case: it harvests
+// Settled is meant for a runner that polls a running case: it harvests
 // the history so far and reports whether the average already meets the
 // tolerance (verdict Converged or Steady), so the case may be stopped.
 // opts.MinSamples sets the least number of samples averaged after the
@@ -44,7 +44,7 @@ func Harvest(dir string, q Quantity, opts Options) (Result, error) {
 // negligible beside a solver's time step. Incremental reading (keeping
 // each file's offset and the last complete line) would be easy to add if
 // polling ever became a burden; the statistics would still be recomputed.
-func EarlyStop(dir string, q Quantity, opts Options) (stop bool, r Result, err error) {
+func Settled(dir string, q Quantity, opts Options) (stop bool, r Result, err error) {
 	r, err = Harvest(dir, q, opts)
 	if errors.Is(err, ErrNoFiles) || errors.Is(err, ErrNoData) {
 		return false, r, nil

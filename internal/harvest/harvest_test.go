@@ -73,12 +73,12 @@ func TestHarvestReadError(t *testing.T) {
 // Ensure that a runner polling a growing history is told to stop only once
 // the average meets the tolerance, and not before the file exists or holds
 // enough samples; a line being written is ignored.
-func TestEarlyStop(t *testing.T) {
+func TestSettled(t *testing.T) {
 	dir := t.TempDir()
 	q := Quantity{Files: "out/coef*.dat", Value: []Term{{Column: ColumnIndex(2)}}}
 	opts := Options{Abs: 0.01, MinSamples: 500}
 
-	stop, r, err := EarlyStop(dir, q, opts)
+	stop, r, err := Settled(dir, q, opts)
 	if stop || err != nil || r.Verdict != Failed {
 		t.Fatalf("no file yet: stop %v, %v, %v", stop, r.Verdict, err)
 	}
@@ -92,7 +92,7 @@ func TestEarlyStop(t *testing.T) {
 	}
 	defer f.Close()
 	fmt.Fprintln(f, "# time cd")
-	stop, _, err = EarlyStop(dir, q, opts)
+	stop, _, err = Settled(dir, q, opts)
 	if stop || err != nil {
 		t.Fatalf("header only: stop %v, %v", stop, err)
 	}
@@ -107,7 +107,7 @@ func TestEarlyStop(t *testing.T) {
 			fmt.Fprintf(f, "%d %.9f\n", j, 1.5+x[j])
 		}
 		fmt.Fprintf(f, "%d 1.5", i+step) // being written
-		stop, r, err = EarlyStop(dir, q, opts)
+		stop, r, err = Settled(dir, q, opts)
 		if err != nil {
 			t.Fatal(err)
 		}

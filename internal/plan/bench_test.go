@@ -43,7 +43,7 @@ func BenchmarkRender200(b *testing.B) {
 			}
 			vals += strconv.Itoa(i)
 		}
-		os.WriteFile(filepath.Join(dir, recipe.FileName), []byte("[case]\ntemplate = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nvalues = ["+vals+"]\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"), 0o644)
+		os.WriteFile(filepath.Join(dir, recipe.FileName), []byte("[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = ["+vals+"]\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"), 0o644)
 		r, err := recipe.Load(filepath.Join(dir, recipe.FileName))
 		if err != nil {
 			b.Fatal(err)

@@ -48,7 +48,7 @@ var generators = map[string]func(*recipe.Recipe) ([][]float64, string){
 		return doe.OneAtATime(base, nil, nil), "one factor at a time around the baseline"
 	},
 	"morris": func(r *recipe.Recipe) ([][]float64, string) {
-		levels := r.Design.Levels
+		levels := r.Design.GridLevels
 		if levels == 0 {
 			levels = 4
 		}
@@ -61,21 +61,21 @@ var generators = map[string]func(*recipe.Recipe) ([][]float64, string){
 // parameter in recipe order, and a note on the design (its quality, and
 // points replaced or dropped by the constraints).
 func Points(r *recipe.Recipe) ([]recipe.Point, string, error) {
-	if r.Design.Method == "table" {
+	if r.Design.Scheme == "table" {
 		if len(r.Design.Points) == 0 {
 			return nil, "", fmt.Errorf("%s:%d: the design has no point; the study would have no variant", r.File, r.Design.Line)
 		}
 		return r.Design.Points, "explicit table", nil
 	}
-	gen, ok := generators[r.Design.Method]
+	gen, ok := generators[r.Design.Scheme]
 	if !ok {
-		return nil, "", fmt.Errorf("design method %q has no generator", r.Design.Method)
+		return nil, "", fmt.Errorf("design scheme %q has no generator", r.Design.Scheme)
 	}
 	unit, note := gen(r)
 	if len(r.Design.Constraints) > 0 {
 		mapping := func(u []float64) map[string]float64 { return r.Numbers(valuesAt(r, u)) }
 		opts := doe.ConstrainOptions{Mapping: mapping}
-		switch r.Design.Method {
+		switch r.Design.Scheme {
 		case "sobol":
 			opts.Candidates = doe.NewSobol(len(r.Params), doe.SobolOptions{Scramble: true, Seed: r.Design.Seed + 1})
 		case "latin":
@@ -96,7 +96,7 @@ func Points(r *recipe.Recipe) ([]recipe.Point, string, error) {
 	if len(unit) == 0 {
 		return nil, "", fmt.Errorf("%s:%d: the design has no point; the study would have no variant", r.File, r.Design.Line)
 	}
-	return fromUnit(r, unit, r.Design.Method), note, nil
+	return fromUnit(r, unit, r.Design.Scheme), note, nil
 }
 
 func valuesAt(r *recipe.Recipe, u []float64) []recipe.Value {

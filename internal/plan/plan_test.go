@@ -34,7 +34,7 @@ func must(t *testing.T, err error) {
 }
 
 const recipeText = `[case]
-template = "template"
+base = "template"
 render = ["case.txt"]
 [[param]]
 name = "r"
@@ -43,9 +43,9 @@ max = 0.3
 steps = 3
 [[param]]
 name = "shape"
-choices = ["round", "square"]
+levels = ["round", "square"]
 [design]
-method = "factorial"
+scheme = "factorial"
 [[stage]]
 name = "solve"
 run = "true"
@@ -136,7 +136,7 @@ func TestPlanIdempotent(t *testing.T) {
 // Ensure that a named point whose values changed is refused, and that the
 // refusal writes nothing.
 func TestPlanChangedNamedPoint(t *testing.T) {
-	table := strings.Replace(recipeText, `method = "factorial"`, `method = "table"
+	table := strings.Replace(recipeText, `scheme = "factorial"`, `scheme = "table"
 points = [
   { name = "baseline", r = 0.1, shape = "round" },
   { r = 0.3, shape = "square" },
@@ -208,7 +208,7 @@ func TestPlanParamsChanged(t *testing.T) {
 	dir := study(t, recipeText)
 	_, err := Plan(context.Background(), load(t, dir), Options{})
 	must(t, err)
-	text := strings.Replace(recipeText, "[design]", "[[param]]\nname = \"h\"\nvalues = [1]\n[design]", 1)
+	text := strings.Replace(recipeText, "[design]", "[[param]]\nname = \"h\"\nlevels = [1]\n[design]", 1)
 	must(t, os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(text), 0o644))
 	_, err = Plan(context.Background(), load(t, dir), Options{})
 	if err == nil || !strings.Contains(err.Error(), "planned with the parameters [r, shape] and the recipe now declares [r, shape, h]") {
@@ -232,11 +232,11 @@ func TestPlanLeftoverDirectory(t *testing.T) {
 	}
 }
 
-// Ensure that every design method the recipe accepts has a generator.
+// Ensure that every design scheme the recipe accepts has a generator.
 func TestGeneratorsMatchRecipe(t *testing.T) {
-	for m := range recipe.DesignMethods {
+	for m := range recipe.Schemes {
 		if generators[m] == nil && m != "table" {
-			t.Errorf("method %q accepted by recipes but not generated", m)
+			t.Errorf("scheme %q accepted by recipes but not generated", m)
 		}
 	}
 }
@@ -246,7 +246,7 @@ func TestGeneratorsMatchRecipe(t *testing.T) {
 // every planned point.
 func TestPlanDesigns(t *testing.T) {
 	base := `[case]
-template = "template"
+base = "template"
 [[param]]
 name = "r"
 min = 0.0
@@ -264,14 +264,14 @@ run = "true"
 		n      int
 		note   string
 	}{
-		{"method = \"latin\"\ncount = 12\nseed = 3", 12, "maximin Latin hypercube"},
-		{"method = \"sobol\"\ncount = 16\nseed = 1", 16, "Sobol'"},
+		{"scheme = \"latin\"\ncount = 12\nseed = 3", 12, "maximin Latin hypercube"},
+		{"scheme = \"sobol\"\ncount = 16\nseed = 1", 16, "Sobol'"},
 		// A two-factor composite: 4 factorial + 4 axial + 3 centre runs, of
 		// which the centre runs coincide and are planned once.
-		{"method = \"composite\"\ncomposite = \"face\"", 9, "central composite (face"},
-		{"method = \"one_at_a_time\"\nbaseline = { r = 0.2, taper = 10.0 }", 5, "one factor at a time"},
-		{"method = \"latin\"\ncount = 12\nseed = 3\nconstraints = [\"r * 50 + taper < 25\"]", 12, "replaced"},
-		{"method = \"composite\"\ncomposite = \"face\"\nconstraints = [\"r * 50 + taper <= 20\"]", 6, "dropped"},
+		{"scheme = \"composite\"\ncomposite = \"face\"", 9, "central composite (face"},
+		{"scheme = \"one_at_a_time\"\nbaseline = { r = 0.2, taper = 10.0 }", 5, "one factor at a time"},
+		{"scheme = \"latin\"\ncount = 12\nseed = 3\nconstraints = [\"r * 50 + taper < 25\"]", 12, "replaced"},
+		{"scheme = \"composite\"\ncomposite = \"face\"\nconstraints = [\"r * 50 + taper <= 20\"]", 6, "dropped"},
 	}
 	for _, c := range cases {
 		t.Run(strings.Fields(c.design)[2], func(t *testing.T) {

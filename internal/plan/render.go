@@ -57,14 +57,14 @@ func matches(pattern, rel string) bool {
 // that each placeholder names a parameter. Problems are reported with the
 // template file's path and line.
 func readLayout(r *recipe.Recipe) (*layout, error) {
-	lay := &layout{root: r.Template}
+	lay := &layout{root: r.Base}
 	used := make([]bool, len(r.Render))
 	var problems []string
-	err := filepath.WalkDir(r.Template, func(path string, d fs.DirEntry, err error) error {
+	err := filepath.WalkDir(r.Base, func(path string, d fs.DirEntry, err error) error {
 		if err != nil {
 			return err
 		}
-		rel, _ := filepath.Rel(r.Template, path)
+		rel, _ := filepath.Rel(r.Base, path)
 		if rel == "." {
 			return nil
 		}
@@ -81,7 +81,7 @@ func readLayout(r *recipe.Recipe) (*layout, error) {
 				return err
 			}
 		case !info.Mode().IsRegular():
-			problems = append(problems, fmt.Sprintf("%s: not a regular file, directory or link; remove it from the template", path))
+			problems = append(problems, fmt.Sprintf("%s: not a regular file, directory or link; remove it from the base case", path))
 			return nil
 		default:
 			for i, g := range r.Render {
@@ -91,7 +91,7 @@ func readLayout(r *recipe.Recipe) (*layout, error) {
 				}
 			}
 			if e.action != doRender {
-				for _, g := range r.Copy {
+				for _, g := range r.Private {
 					if matches(g, rel) {
 						e.action = doCopy
 					}
@@ -110,11 +110,11 @@ func readLayout(r *recipe.Recipe) (*layout, error) {
 		return nil
 	})
 	if err != nil {
-		return nil, fmt.Errorf("read template %s: %w", r.Template, err)
+		return nil, fmt.Errorf("read the base case %s: %w", r.Base, err)
 	}
 	for i, u := range used {
 		if !u {
-			problems = append(problems, fmt.Sprintf("%s: render pattern %q matches no file in the template %s; correct the pattern or remove it", filepath.Base(r.File), r.Render[i], r.Template))
+			problems = append(problems, fmt.Sprintf("%s: render pattern %q matches no file in the base case %s; correct the pattern or remove it", filepath.Base(r.File), r.Render[i], r.Base))
 		}
 	}
 	if len(problems) > 0 {

@@ -78,7 +78,7 @@ func SplitCommand(s string) ([]string, error) {
 }
 
 // CheckCommands verifies that every stage's program can be found: a
-// program named with a slash must exist in the template case (relative to
+// program named with a slash must exist in the base case (relative to
 // the stage's directory) or on disk; a bare name must be on PATH. It
 // returns the located problems, or nil.
 func (r *Recipe) CheckCommands() error {
@@ -91,13 +91,13 @@ func (r *Recipe) CheckCommands() error {
 		if strings.ContainsRune(prog, '/') {
 			p := prog
 			if !filepath.IsAbs(p) {
-				p = filepath.Join(r.Template, s.Dir, p)
+				p = filepath.Join(r.Base, s.Dir, p)
 			}
 			st, err := os.Stat(p)
 			switch {
 			case err != nil:
 				pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
-					Msg: fmt.Sprintf("stage %q: program %q not found (looked for %s); add it to the template case or correct run", s.Name, prog, p)})
+					Msg: fmt.Sprintf("stage %q: program %q not found (looked for %s); add it to the base case or correct run", s.Name, prog, p)})
 			case st.IsDir() || st.Mode()&0o111 == 0:
 				pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
 					Msg: fmt.Sprintf("stage %q: %s is not an executable file; chmod +x it, or run it through its interpreter (for example run = \"sh %s\")", s.Name, p, prog)})

@@ -12,28 +12,28 @@ import (
 // doe, and compiles the constraints.
 func checkSampling(pr *problems, r *Recipe, d rawDesign) {
 	k := len(r.Params)
-	only := func(key string, set bool, methods ...string) {
+	only := func(key string, set bool, schemes ...string) {
 		if !set {
 			return
 		}
-		for _, m := range methods {
-			if d.Method == m {
+		for _, m := range schemes {
+			if d.Scheme == m {
 				return
 			}
 		}
-		pr.at("design."+key, "%s does not apply to method = %q; remove it", key, d.Method)
+		pr.at("design."+key, "%s does not apply to scheme = %q; remove it", key, d.Scheme)
 	}
 	only("count", d.Count != 0, "latin", "sobol")
 	only("seed", d.Seed != 0, "latin", "sobol", "morris")
 	only("composite", d.Composite != "", "composite")
 	only("centre", d.Centre != nil, "composite", "box_behnken")
 	only("trajectories", d.Trajectories != 0, "morris")
-	only("levels", d.Levels != 0, "morris")
+	only("grid_levels", d.GridLevels != 0, "morris")
 	only("baseline", d.Baseline != nil, "one_at_a_time")
-	switch d.Method {
+	switch d.Scheme {
 	case "latin", "sobol":
 		if d.Count < 2 {
-			pr.at("design", "method = %q needs count = N, the number of points (2 or more; about 10 per parameter is common practice)", d.Method)
+			pr.at("design", "scheme = %q needs count = N, the number of points (2 or more; about 10 per parameter is common practice)", d.Scheme)
 		}
 	case "composite":
 		switch d.Composite {
@@ -53,10 +53,10 @@ func checkSampling(pr *problems, r *Recipe, d rawDesign) {
 		}
 	case "morris":
 		if d.Trajectories < 2 {
-			pr.at("design", "method = \"morris\" needs trajectories = N (2 or more; 4 to 10 is usual with an expensive solver)")
+			pr.at("design", "scheme = \"morris\" needs trajectories = N (2 or more; 4 to 10 is usual with an expensive solver)")
 		}
-		if d.Levels != 0 && (d.Levels < 2 || d.Levels%2 != 0) {
-			pr.at("design.levels", "levels must be an even number of 2 or more (got %d)", d.Levels)
+		if d.GridLevels != 0 && (d.GridLevels < 2 || d.GridLevels%2 != 0) {
+			pr.at("design.grid_levels", "grid_levels must be an even number of 2 or more (got %d)", d.GridLevels)
 		}
 	case "one_at_a_time":
 		if d.Baseline != nil {
@@ -89,10 +89,10 @@ func checkSampling(pr *problems, r *Recipe, d rawDesign) {
 			pr.at("design.centre", "centre cannot be negative")
 		}
 		r.Design.Centre = *d.Centre
-	} else if d.Method == "composite" || d.Method == "box_behnken" {
+	} else if d.Scheme == "composite" || d.Scheme == "box_behnken" {
 		r.Design.Centre = 3
 	}
-	if len(d.Constraints) > 0 && (d.Method == "table") {
+	if len(d.Constraints) > 0 && (d.Scheme == "table") {
 		pr.at("design.constraints", "constraints apply to generated designs; a table's points are yours to choose")
 	}
 	names := make([]string, k)

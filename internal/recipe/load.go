@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -29,25 +30,24 @@ type rawRecipe struct {
 }
 
 type rawCase struct {
-	Template string   `toml:"template"`
-	Render   []string `toml:"render"`
-	Copy     []string `toml:"copy"`
+	Base    string   `toml:"base"`
+	Render  []string `toml:"render"`
+	Private []string `toml:"private"`
 }
 
 type rawParam struct {
-	Name    string    `toml:"name"`
-	Min     *float64  `toml:"min"`
-	Max     *float64  `toml:"max"`
-	Log     bool      `toml:"log"`
-	Steps   int       `toml:"steps"`
-	Unit    string    `toml:"unit"`
-	Values  []float64 `toml:"values"`
-	Choices []string  `toml:"choices"`
-	Mesh    string    `toml:"mesh"`
+	Name   string   `toml:"name"`
+	Min    *float64 `toml:"min"`
+	Max    *float64 `toml:"max"`
+	Log    bool     `toml:"log"`
+	Steps  int      `toml:"steps"`
+	Unit   string   `toml:"unit"`
+	Levels []any    `toml:"levels"` // numbers, or words
+	Mesh   string   `toml:"mesh"`
 }
 
 type rawDesign struct {
-	Method string           `toml:"method"`
+	Scheme string           `toml:"scheme"`
 	Steps  int              `toml:"steps"`
 	Points []map[string]any `toml:"points"`
 	File   string           `toml:"file"`
@@ -57,30 +57,29 @@ type rawDesign struct {
 	Composite    string         `toml:"composite"`
 	Centre       *int           `toml:"centre"`
 	Trajectories int            `toml:"trajectories"`
-	Levels       int            `toml:"levels"`
+	GridLevels   int            `toml:"grid_levels"`
 	Baseline     map[string]any `toml:"baseline"`
 	Constraints  []string       `toml:"constraints"`
 }
 
 type rawStage struct {
-	Name      string            `toml:"name"`
-	Run       string            `toml:"run"`
-	Shell     bool              `toml:"shell"`
-	Cores     *int              `toml:"cores"`
-	Timeout   string            `toml:"timeout"`
-	Retries   int               `toml:"retries"`
-	Dir       string            `toml:"dir"`
-	Env       map[string]string `toml:"env"`
-	EarlyStop *rawEarlyStop     `toml:"early_stop"`
-	Continue  string            `toml:"continue"`
+	Name     string            `toml:"name"`
+	Run      string            `toml:"run"`
+	Shell    bool              `toml:"shell"`
+	Cores    *int              `toml:"cores"`
+	Timeout  string            `toml:"timeout"`
+	Retries  int               `toml:"retries"`
+	Dir      string            `toml:"dir"`
+	Env      map[string]string `toml:"env"`
+	Settle   *rawSettle        `toml:"settle"`
+	Continue string            `toml:"continue"`
 }
 
 var identRE = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9_]*$`)
 
-// DesignMethods lists the design methods a recipe may name, with a check of
-// the method's own settings. Package plan registers the methods it can
-// generate; Load refuses any other name.
-var DesignMethods = map[string]bool{"factorial": true, "table": true, "latin": true, "sobol": true,
+// Schemes lists the design schemes a recipe may name in [design] scheme.
+// Package plan has a generator for each; Load refuses any other name.
+var Schemes = map[string]bool{"factorial": true, "table": true, "latin": true, "sobol": true,
 	"composite": true, "box_behnken": true, "one_at_a_time": true, "morris": true}
 
 // Load reads and checks the recipe at path. Every problem found is
@@ -135,12 +134,27 @@ func Parse(path string, data []byte) (*Recipe, error) {
 func decodeProblems(pr *problems, err error) {
 	var strict *toml.StrictMissingError
 	if errors.As(err, &strict) {
+		renamedTables := map[string]bool{}
 		for _, e := range strict.Errors {
 			row, _ := e.Position()
-			key := strings.Join(e.Key(), ".")
-			pr.list = append(pr.list, &Error{File: pr.file, Line: row,
-				Msg: fmt.Sprintf("unknown key %q: check its spelling and the table it is in (see `sweep new` for a commented recipe)", key)})
+			path := e.Key()
+			key := strings.Join(path, ".")
+			if t, msg, ok := renamedTable(path); ok {
+				if !renamedTables[t] {
+					renamedTables[t] = true
+					for _, l := range tableLines(pr.lines, t) {
+						pr.list = append(pr.list, &Error{File: pr.file, Line: l, Msg: msg})
+					}
+				}
+				continue
+			}
+			msg, ok := renamedKeys[key]
+			if !ok {
+				msg = fmt.Sprintf("unknown key %q: check its spelling and the table it is in (see `sweep new` for a commented recipe)", key)
+			}
+			pr.list = append(pr.list, &Error{File: pr.file, Line: row, Msg: msg})
 		}
+		sort.SliceStable(pr.list, func(i, j int) bool { return pr.list[i].Line < pr.list[j].Line })
 		return
 	}
 	var de *toml.DecodeError
@@ -161,7 +175,7 @@ var typeErrRE = regexp.MustCompile(`cannot decode TOML (\w+) into struct field \
 
 // tomlName turns a raw struct field name back into its recipe key.
 func tomlName(field string) string {
-	for _, t := range []reflect.Type{reflect.TypeOf(rawRecipe{}), reflect.TypeOf(rawCase{}), reflect.TypeOf(rawParam{}), reflect.TypeOf(rawDesign{}), reflect.TypeOf(rawStage{}), reflect.TypeOf(rawQuantity{}), reflect.TypeOf(rawEarlyStop{}), reflect.TypeOf(rawBackend{})} {
+	for _, t := range []reflect.Type{reflect.TypeOf(rawRecipe{}), reflect.TypeOf(rawCase{}), reflect.TypeOf(rawParam{}), reflect.TypeOf(rawDesign{}), reflect.TypeOf(rawStage{}), reflect.TypeOf(rawQuantity{}), reflect.TypeOf(rawSettle{}), reflect.TypeOf(rawBackend{})} {
 		if f, ok := t.FieldByName(field); ok {
 			return f.Tag.Get("toml")
 		}
@@ -205,32 +219,32 @@ func tidyDecodeError(s string) string {
 }
 
 func checkCase(pr *problems, r *Recipe, c rawCase) {
-	if c.Template == "" {
-		pr.at("case", "[case] needs template = \"DIR\", the base case directory (relative to the recipe)")
+	if c.Base == "" {
+		pr.at("case", "[case] needs base = \"DIR\", the base case directory (relative to the recipe)")
 		return
 	}
-	r.Template = c.Template
-	if !filepath.IsAbs(r.Template) {
-		r.Template = filepath.Join(r.Dir, r.Template)
+	r.Base = c.Base
+	if !filepath.IsAbs(r.Base) {
+		r.Base = filepath.Join(r.Dir, r.Base)
 	}
-	st, err := os.Stat(r.Template)
+	st, err := os.Stat(r.Base)
 	switch {
 	case err != nil:
-		pr.at("case.template", "template directory %q does not exist; create it or correct the path (relative to the recipe)", c.Template)
+		pr.at("case.base", "base case directory %q does not exist; create it or correct the path (relative to the recipe)", c.Base)
 	case !st.IsDir():
-		pr.at("case.template", "template %q is a file; it must be the base case directory", c.Template)
+		pr.at("case.base", "base %q is a file; it must be the base case directory", c.Base)
 	}
 	for i, g := range c.Render {
 		if err := checkGlob(g); err != nil {
 			pr.at(fmt.Sprintf("case.render[%d]", i), "render pattern %q: %v", g, err)
 		}
 	}
-	for i, g := range c.Copy {
+	for i, g := range c.Private {
 		if err := checkGlob(g); err != nil {
-			pr.at(fmt.Sprintf("case.copy[%d]", i), "copy pattern %q: %v", g, err)
+			pr.at(fmt.Sprintf("case.private[%d]", i), "private pattern %q: %v", g, err)
 		}
 	}
-	r.Render, r.Copy = c.Render, c.Copy
+	r.Render, r.Private = c.Render, c.Private
 }
 
 func checkGlob(g string) error {
@@ -238,7 +252,7 @@ func checkGlob(g string) error {
 		return errors.New("empty pattern")
 	}
 	if filepath.IsAbs(g) || strings.HasPrefix(filepath.Clean(g), "..") {
-		return errors.New("must be relative to the template directory and stay inside it")
+		return errors.New("must be relative to the base case directory and stay inside it")
 	}
 	if _, err := filepath.Match(g, ""); err != nil {
 		return fmt.Errorf("bad pattern syntax: %v", err)
@@ -267,18 +281,8 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 			}
 			seen[up] = i
 		}
-		kinds := 0
-		if rp.Min != nil || rp.Max != nil {
-			kinds++
-		}
-		if rp.Values != nil {
-			kinds++
-		}
-		if rp.Choices != nil {
-			kinds++
-		}
-		if kinds != 1 {
-			pr.at(key, "parameter %q must have exactly one of: min and max (a range), values = [...] (numeric levels), choices = [...] (words)", rp.Name)
+		if (rp.Min != nil || rp.Max != nil) == (rp.Levels != nil) {
+			pr.at(key, "parameter %q must have either min and max (a range) or levels = [...] (numbers or words), not both or neither", rp.Name)
 			r.Params = append(r.Params, p)
 			continue
 		}
@@ -299,34 +303,11 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 			if rp.Steps < 0 || rp.Steps == 1 {
 				pr.at(key+".steps", "parameter %q: steps must be 2 or more (it is %d)", rp.Name, rp.Steps)
 			}
-		case rp.Values != nil:
-			p.Kind = Levels
-			p.Values = rp.Values
-			if len(p.Values) == 0 {
-				pr.at(key+".values", "parameter %q has an empty values list", rp.Name)
-			}
-			if dup := firstDup(p.Values); dup >= 0 {
-				pr.at(key+".values", "parameter %q lists the value %g twice", rp.Name, p.Values[dup])
-			}
 		default:
-			p.Kind = Choice
-			p.Choices = rp.Choices
-			if len(p.Choices) == 0 {
-				pr.at(key+".choices", "parameter %q has an empty choices list", rp.Name)
-			}
-			seenC := map[string]bool{}
-			for j, c := range p.Choices {
-				if c == "" {
-					pr.at(fmt.Sprintf("%s.choices[%d]", key, j), "parameter %q has an empty choice", rp.Name)
-				}
-				if seenC[c] {
-					pr.at(fmt.Sprintf("%s.choices[%d]", key, j), "parameter %q lists the choice %q twice", rp.Name, c)
-				}
-				seenC[c] = true
-			}
+			checkLevels(pr, key, &p, rp.Levels)
 		}
 		if rp.Steps != 0 && p.Kind != Range {
-			pr.at(key+".steps", "steps applies only to min/max ranges; remove it from parameter %q", rp.Name)
+			pr.at(key+".steps", "steps applies only to min/max ranges (levels are listed); remove it from parameter %q", rp.Name)
 		}
 		switch rp.Mesh {
 		case "":
@@ -350,6 +331,60 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 	}
 }
 
+// checkLevels reads a levels list: all numbers (a numeric parameter with
+// discrete levels) or all words (a categorical one).
+func checkLevels(pr *problems, key string, p *Param, raw []any) {
+	if len(raw) == 0 {
+		pr.at(key+".levels", "parameter %q has an empty levels list: list its levels, such as levels = [1, 2, 4] or levels = [\"round\", \"square\"]", p.Name)
+		p.Kind = Levels
+		return
+	}
+	_, words := raw[0].(string)
+	if words {
+		p.Kind = Choice
+	} else {
+		p.Kind = Levels
+	}
+	seenW := map[string]bool{}
+	for j, x := range raw {
+		at := fmt.Sprintf("%s.levels[%d]", key, j)
+		switch v := x.(type) {
+		case string:
+			if !words {
+				pr.at(at, "parameter %q mixes numbers and words in its levels (%q); give all levels as numbers or all as words in quotes", p.Name, v)
+				continue
+			}
+			if v == "" {
+				pr.at(at, "parameter %q has an empty level %d: write a word", p.Name, j+1)
+			}
+			if seenW[v] {
+				pr.at(at, "parameter %q lists the level %q twice", p.Name, v)
+			}
+			seenW[v] = true
+			p.Choices = append(p.Choices, v)
+		case int64, float64:
+			f, _ := v.(float64)
+			if i, ok := v.(int64); ok {
+				f = float64(i)
+			}
+			if words {
+				pr.at(at, "parameter %q mixes words and numbers in its levels (%g); give all levels as numbers or all as words in quotes", p.Name, f)
+				continue
+			}
+			if math.IsNaN(f) || math.IsInf(f, 0) {
+				pr.at(at, "parameter %q: level %d is %g; levels must be finite numbers", p.Name, j+1, f)
+				continue
+			}
+			p.Values = append(p.Values, f)
+		default:
+			pr.at(at, "parameter %q: level %d (%v) is neither a number nor a word in quotes", p.Name, j+1, x)
+		}
+	}
+	if dup := firstDup(p.Values); dup >= 0 {
+		pr.at(key+".levels", "parameter %q lists the level %g twice", p.Name, p.Values[dup])
+	}
+}
+
 func firstDup(xs []float64) int {
 	seen := map[float64]bool{}
 	for i, x := range xs {
@@ -362,24 +397,14 @@ func firstDup(xs []float64) int {
 }
 
 func checkDesign(pr *problems, r *Recipe, d rawDesign) {
-	r.Design = Design{Method: d.Method, Steps: d.Steps, Seed: d.Seed, Count: d.Count, Line: pr.line("design"),
-		Composite: d.Composite, Trajectories: d.Trajectories, Levels: d.Levels}
-	if d.Method == "" {
-		methods := make([]string, 0, len(DesignMethods))
-		for m := range DesignMethods {
-			methods = append(methods, m)
-		}
-		sort.Strings(methods)
-		pr.at("design", "[design] needs method = one of %s", strings.Join(methods, ", "))
+	r.Design = Design{Scheme: d.Scheme, Steps: d.Steps, Seed: d.Seed, Count: d.Count, Line: pr.line("design"),
+		Composite: d.Composite, Trajectories: d.Trajectories, GridLevels: d.GridLevels}
+	if d.Scheme == "" {
+		pr.at("design", "[design] needs scheme = one of %s", strings.Join(SchemeNames(), ", "))
 		return
 	}
-	if !DesignMethods[d.Method] {
-		methods := make([]string, 0, len(DesignMethods))
-		for m := range DesignMethods {
-			methods = append(methods, m)
-		}
-		sort.Strings(methods)
-		pr.at("design.method", "unknown design method %q: use one of %s", d.Method, strings.Join(methods, ", "))
+	if !Schemes[d.Scheme] {
+		pr.at("design.scheme", "unknown design scheme %q: use one of %s", d.Scheme, strings.Join(SchemeNames(), ", "))
 		return
 	}
 	if d.Steps < 0 || d.Steps == 1 {
@@ -389,10 +414,10 @@ func checkDesign(pr *problems, r *Recipe, d rawDesign) {
 		pr.at("design.count", "count must be positive (it is %d)", d.Count)
 	}
 	checkSampling(pr, r, d)
-	switch d.Method {
+	switch d.Scheme {
 	case "factorial":
 		if d.Points != nil || d.File != "" {
-			pr.at("design", "points and file belong to method = \"table\"; remove them or change the method")
+			pr.at("design", "points and file belong to scheme = \"table\"; remove them or change the scheme")
 		}
 		if d.Steps == 0 {
 			r.Design.Steps = 3
@@ -425,7 +450,7 @@ func checkDesign(pr *problems, r *Recipe, d rawDesign) {
 			}
 			r.Design.Points = pts
 		default:
-			pr.at("design", "method = \"table\" needs points = [ {param = value, ...}, ... ] or file = \"points.csv\"")
+			pr.at("design", "scheme = \"table\" needs points = [ {param = value, ...}, ... ] or file = \"points.csv\"")
 		}
 	}
 }
@@ -566,7 +591,7 @@ func checkStages(pr *problems, r *Recipe, raws []rawStage) {
 				s.ContinueArgv = argv
 			}
 		}
-		checkEarlyStop(pr, r, key, &s, rs.EarlyStop)
+		checkSettle(pr, r, key, &s, rs.Settle)
 		r.Stages = append(r.Stages, s)
 	}
 }

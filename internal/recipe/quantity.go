@@ -14,16 +14,53 @@ import (
 type Quantity struct {
 	Name string
 	Unit string
-	// Goal is "minimize" or "maximize" for an objective, "" otherwise.
-	Goal string
-	Spec harvest.Quantity
-	Opts harvest.Options
-	Line int
+	// Direction says which values are better: Lower or Higher for an
+	// objective, None for a quantity that is only reported.
+	Direction Direction
+	Spec      harvest.Quantity
+	Opts      harvest.Options
+	Line      int
 }
 
-// EarlyStop says when and how a stage's solver is stopped once its
-// averages have converged.
-type EarlyStop struct {
+// Direction says which values of a quantity are better.
+type Direction int
+
+const (
+	// None marks a quantity with no preferred direction.
+	None Direction = iota
+	// Lower is better (drag).
+	Lower
+	// Higher is better (downforce as a positive number, lift-to-drag).
+	Higher
+)
+
+// String returns the recipe's word for d: "lower", "higher" or "".
+func (d Direction) String() string {
+	switch d {
+	case Lower:
+		return "lower"
+	case Higher:
+		return "higher"
+	}
+	return ""
+}
+
+// Better reports whether value a is better than value b for the
+// quantity: smaller when lower is better, larger when higher is better.
+// A quantity without a direction is ranked as lower-is-better.
+func (q *Quantity) Better(a, b float64) bool {
+	if q.Direction == Higher {
+		return a > b
+	}
+	return a < b
+}
+
+// LowerIsBetter reports whether smaller values of q rank first.
+func (q *Quantity) LowerIsBetter() bool { return q.Direction != Higher }
+
+// Settle says when and how a stage's solver is stopped once its
+// averages have settled (converged to their tolerance).
+type Settle struct {
 	Quantities []string      // every one must have converged
 	Every      time.Duration // how often the history is analysed
 	MinSamples int           // least number of averaged samples
@@ -41,7 +78,7 @@ type rawQuantity struct {
 	Value        any      `toml:"value"`
 	Comment      string   `toml:"comment"`
 	Scale        rawScale `toml:"scale"`
-	Goal         string   `toml:"goal"`
+	Better       string   `toml:"better"`
 	Tolerance    float64  `toml:"tolerance"`
 	RelTolerance float64  `toml:"relative_tolerance"`
 	Start        *float64 `toml:"start"`
@@ -54,7 +91,7 @@ type rawScale struct {
 	Reference float64 `toml:"reference"`
 }
 
-type rawEarlyStop struct {
+type rawSettle struct {
 	Quantities []string `toml:"quantities"`
 	Every      string   `toml:"every"`
 	MinSamples int      `toml:"min_samples"`
@@ -64,14 +101,14 @@ type rawEarlyStop struct {
 	Command    string   `toml:"command"`
 }
 
-// Signals a recipe may name for an early stop.
+// Signals a recipe may name for a settle stop.
 var stopSignals = []string{"TERM", "INT", "HUP", "USR1", "USR2"}
 
 func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 	seen := map[string]bool{}
 	for i, rq := range raws {
 		key := fmt.Sprintf("quantity[%d]", i)
-		q := Quantity{Name: rq.Name, Unit: rq.Unit, Goal: rq.Goal, Line: pr.line(key)}
+		q := Quantity{Name: rq.Name, Unit: rq.Unit, Line: pr.line(key)}
 		switch {
 		case rq.Name == "":
 			pr.at(key, "quantity %d has no name: add name = \"drag\" (or similar)", i+1)
@@ -81,8 +118,14 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 			pr.at(key+".name", "quantity %q is declared twice", rq.Name)
 		}
 		seen[rq.Name] = true
-		if rq.Goal != "" && rq.Goal != "minimize" && rq.Goal != "maximize" {
-			pr.at(key+".goal", "quantity %q: goal must be \"minimize\" or \"maximize\" (got %q)", rq.Name, rq.Goal)
+		switch rq.Better {
+		case "":
+		case "lower":
+			q.Direction = Lower
+		case "higher":
+			q.Direction = Higher
+		default:
+			pr.at(key+".better", "quantity %q: better must be \"lower\" or \"higher\" (got %q): it says which values of the quantity are better", rq.Name, rq.Better)
 		}
 		q.Spec = harvest.Quantity{Files: rq.Files, Comment: rq.Comment,
 			Scale: harvest.Scale{Factor: rq.Scale.Factor, Density: rq.Scale.Density, Speed: rq.Scale.Speed, Reference: rq.Scale.Reference}}
@@ -125,18 +168,18 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 	}
 }
 
-func checkEarlyStop(pr *problems, r *Recipe, key string, s *Stage, raw *rawEarlyStop) {
+func checkSettle(pr *problems, r *Recipe, key string, s *Stage, raw *rawSettle) {
 	if raw == nil {
 		return
 	}
-	key += ".early_stop"
-	es := &EarlyStop{Quantities: raw.Quantities, MinSamples: raw.MinSamples, By: raw.By, Signal: raw.Signal, File: raw.File, Every: 30 * time.Second}
+	key += ".settle"
+	es := &Settle{Quantities: raw.Quantities, MinSamples: raw.MinSamples, By: raw.By, Signal: raw.Signal, File: raw.File, Every: 30 * time.Second}
 	if len(es.Quantities) == 0 {
-		pr.at(key, "stage %q: early_stop needs quantities = [\"...\"], the quantities whose averages must converge", s.Name)
+		pr.at(key, "stage %q: [stage.settle] needs quantities = [\"...\"], the quantities whose averages must settle", s.Name)
 	}
 	for _, name := range es.Quantities {
 		if r.Quantity(name) == nil {
-			pr.at(key+".quantities", "stage %q: early_stop names %q, which is not a declared [[quantity]]", s.Name, name)
+			pr.at(key+".quantities", "stage %q: [stage.settle] names %q, which is not a declared [[quantity]]", s.Name, name)
 		}
 	}
 	if raw.Every != "" {
@@ -168,13 +211,13 @@ func checkEarlyStop(pr *problems, r *Recipe, key string, s *Stage, raw *rawEarly
 	case "command":
 		argv, err := SplitCommand(raw.Command)
 		if err != nil {
-			pr.at(key+".command", "stage %q: early_stop command: %v", s.Name, err)
+			pr.at(key+".command", "stage %q: settle command: %v", s.Name, err)
 		}
 		es.Command = argv
 	default:
 		pr.at(key+".by", "stage %q: by must be \"signal\", \"file\" or \"command\" (got %q)", s.Name, es.By)
 	}
-	s.EarlyStop = es
+	s.Settle = es
 }
 
 // Quantity returns the named quantity, or nil.
@@ -188,8 +231,8 @@ func (r *Recipe) Quantity(name string) *Quantity {
 }
 
 // Objective returns the quantity that ranks variants: the named one, or
-// else the first with a goal, or else the first declared; nil if the
-// recipe declares none.
+// else the first that says which values are better, or else the first
+// declared; nil if the recipe declares none.
 func (r *Recipe) Objective(name string) (*Quantity, error) {
 	if name != "" {
 		if q := r.Quantity(name); q != nil {
@@ -202,7 +245,7 @@ func (r *Recipe) Objective(name string) (*Quantity, error) {
 		return nil, fmt.Errorf("no quantity %q in the recipe (declared: %s)", name, strings.Join(names, ", "))
 	}
 	for i := range r.Quantities {
-		if r.Quantities[i].Goal != "" {
+		if r.Quantities[i].Direction != None {
 			return &r.Quantities[i], nil
 		}
 	}

@@ -16,9 +16,9 @@ type Recipe struct {
 	Dir         string // the study directory (the recipe file's directory)
 	Name        string
 	Description string
-	Template    string   // absolute path of the template case directory
-	Render      []string // glob patterns, relative to Template, of files rendered with text/template
-	Copy        []string // glob patterns of files copied instead of hard-linked
+	Base        string   // absolute path of the base case directory (the template every variant is rendered from)
+	Render      []string // glob patterns, relative to Base, of files rendered with text/template
+	Private     []string // glob patterns of files every variant gets its own copy of, instead of a shared link
 	Params      []Param
 	Design      Design
 	Stages      []Stage
@@ -84,15 +84,15 @@ type Stage struct {
 	// solver's run (from its last restart data) rather than starting over.
 	ContinueCommand string
 	ContinueArgv    []string
-	// EarlyStop, when set, stops the stage's solver once the named
-	// quantities' averages have converged.
-	EarlyStop *EarlyStop
-	Line      int
+	// Settle, when set, stops the stage's solver once the named
+	// quantities' averages have settled (converged to their tolerance).
+	Settle *Settle
+	Line   int
 }
 
 // Design says how the variants' points are chosen.
 type Design struct {
-	Method string  // "factorial" or "table"; further methods come from package doe
+	Scheme string  // "factorial" or "table"; further schemes come from package doe
 	Steps  int     // default number of levels per range parameter in a factorial
 	Points []Point // for "table": the explicit points, from the recipe or a CSV file
 	Seed   uint64
@@ -102,7 +102,7 @@ type Design struct {
 	Composite    string  // composite: "circumscribed", "inscribed" or "face"
 	Centre       int     // composite, box_behnken: centre-point replicates
 	Trajectories int     // morris: number of trajectories
-	Levels       int     // morris: grid levels (even)
+	GridLevels   int     // morris: levels of the grid (even)
 	Baseline     []Value // one_at_a_time: the baseline point (nil: the centre)
 	// Constraints are expressions over parameter names that every point
 	// must satisfy; sampling designs replace failing points, structured

@@ -31,7 +31,7 @@ func writeStudy(t *testing.T, text string) string {
 
 const good = `name = "demo"
 [case]
-template = "template"
+base = "template"
 render = ["case.txt"]
 
 [[param]]
@@ -43,14 +43,14 @@ steps = 3
 
 [[param]]
 name = "angle"
-values = [0, 5.5, 10]
+levels = [0, 5.5, 10]
 
 [[param]]
 name = "shape"
-choices = ["round", "square"]
+levels = ["round", "square"]
 
 [design]
-method = "factorial"
+scheme = "factorial"
 
 [[stage]]
 name = "mesh"
@@ -101,8 +101,8 @@ func TestLoadGood(t *testing.T) {
 
 // Ensure that every recipe mistake is refused with its line and advice.
 func TestLoadBad(t *testing.T) {
-	tail := "\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"
-	head := "[case]\ntemplate = \"template\"\n"
+	tail := "\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"
+	head := "[case]\nbase = \"template\"\n"
 	param := "[[param]]\nname = \"r\"\nmin = 0\nmax = 1\n"
 	cases := []struct {
 		name, text string
@@ -111,23 +111,26 @@ func TestLoadBad(t *testing.T) {
 	}{
 		{"unknown key", head + "[[param]]\nname = \"r\"\nmin = 0\nmax = 1\nstesp = 3\n" + tail, 7, `unknown key "param.stesp"`},
 		{"min above max", head + "[[param]]\nname = \"r\"\nmin = 5\nmax = 2\n" + tail, 6, "min (5) above max (2): swap them"},
-		{"no template", "[case]\ntemplate = \"nowhere\"\n" + param + tail, 2, `template directory "nowhere" does not exist`},
+		{"no template", "[case]\nbase = \"nowhere\"\n" + param + tail, 2, `base case directory "nowhere" does not exist`},
 		{"no param", head + tail, 0, "declares no parameter"},
-		{"empty table", head + param + "\n[design]\nmethod = \"table\"\npoints = []\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 10, "design table is empty"},
-		{"unknown method", head + param + "\n[design]\nmethod = \"guess\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 9, `unknown design method "guess"`},
-		{"two kinds", head + "[[param]]\nname = \"r\"\nmin = 0\nmax = 1\nvalues = [1]\n" + tail, 3, "exactly one of"},
+		{"empty table", head + param + "\n[design]\nscheme = \"table\"\npoints = []\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 10, "design table is empty"},
+		{"unknown method", head + param + "\n[design]\nscheme = \"guess\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 9, `unknown design scheme "guess"`},
+		{"two kinds", head + "[[param]]\nname = \"r\"\nmin = 0\nmax = 1\nlevels = [1]\n" + tail, 3, "either min and max (a range) or levels = [...] (numbers or words), not both or neither"},
+		{"mixed levels", head + "[[param]]\nname = \"r\"\nlevels = [1, \"two\"]\n" + tail, 5, `parameter "r" mixes numbers and words in its levels ("two")`},
+		{"empty levels", head + "[[param]]\nname = \"r\"\nlevels = []\n" + tail, 5, `parameter "r" has an empty levels list`},
+		{"bad better", head + param + tail + "[[quantity]]\nname = \"drag\"\nfiles = \"f\"\nvalue = 2\nbetter = \"less\"\n", 17, `better must be "lower" or "higher" (got "less")`},
 		{"bad name", head + "[[param]]\nname = \"1r\"\nmin = 0\nmax = 1\n" + tail, 4, "must start with a letter"},
-		{"duplicate name", head + param + "[[param]]\nname = \"R\"\nvalues = [1]\n" + tail, 8, "declared twice"},
-		{"bad timeout", head + param + "\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\ntimeout = \"ten minutes\"\n", 13, "not a positive duration"},
-		{"no run", head + param + "\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\n", 10, `stage "s" has no command`},
-		{"unclosed quote", head + param + "\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"echo 'x\"\n", 12, "unclosed single quote"},
-		{"template in command", head + param + "\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"solve {{.r}}\"\n", 12, "commands are not templates"},
+		{"duplicate name", head + param + "[[param]]\nname = \"R\"\nlevels = [1]\n" + tail, 8, "declared twice"},
+		{"bad timeout", head + param + "\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\ntimeout = \"ten minutes\"\n", 13, "not a positive duration"},
+		{"no run", head + param + "\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\n", 10, `stage "s" has no command`},
+		{"unclosed quote", head + param + "\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"echo 'x\"\n", 12, "unclosed single quote"},
+		{"template in command", head + param + "\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"solve {{.r}}\"\n", 12, "commands are not templates"},
 		{"syntax", head + "[[param]\n", 3, "not valid TOML"},
 		{"wrong type", head + "[[param]]\nname = 3\n" + tail, 4, `key "name" must be text in quotes, not an integer`},
-		{"point outside range", head + param + "\n[design]\nmethod = \"table\"\npoints = [\n {r = 0.5},\n {r = 7},\n]\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 12, "r = 7 lies outside the range [0, 1]"},
-		{"point unknown param", head + param + "\n[design]\nmethod = \"table\"\npoints = [{q = 1}]\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 10, `"q", which is not a parameter`},
-		{"render escapes", "[case]\ntemplate = \"template\"\nrender = [\"../x\"]\n" + param + tail, 3, "stay inside it"},
-		{"reserved env", head + param + "\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\nenv = { SWEEP_X = \"1\" }\n", 13, "reserved prefix"},
+		{"point outside range", head + param + "\n[design]\nscheme = \"table\"\npoints = [\n {r = 0.5},\n {r = 7},\n]\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 12, "r = 7 lies outside the range [0, 1]"},
+		{"point unknown param", head + param + "\n[design]\nscheme = \"table\"\npoints = [{q = 1}]\n[[stage]]\nname = \"s\"\nrun = \"true\"\n", 10, `"q", which is not a parameter`},
+		{"render escapes", "[case]\nbase = \"template\"\nrender = [\"../x\"]\n" + param + tail, 3, "stay inside it"},
+		{"reserved env", head + param + "\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\nenv = { SWEEP_X = \"1\" }\n", 13, "reserved prefix"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -229,7 +232,7 @@ func TestSplitCommand(t *testing.T) {
 
 // Ensure that a CSV design table is read and checked with its own lines.
 func TestTableCSV(t *testing.T) {
-	text := strings.Replace(good, `method = "factorial"`, `method = "table"
+	text := strings.Replace(good, `scheme = "factorial"`, `scheme = "table"
 file = "points.csv"`, 1)
 	path := writeStudy(t, text)
 	csv := "name,r,angle,shape\nbase,0.1,0,round\n# a comment\n,0.2,10,square\n"
@@ -259,4 +262,75 @@ func FuzzSplitCommand(f *testing.F) {
 			t.Fatalf("%q: no error and no arguments", s)
 		}
 	})
+}
+
+// Ensure that every key of the earlier recipe vocabulary is refused, at
+// its line, with the message that names its replacement, and that the
+// recipe is not read with the old key taken as the new one.
+func TestLoadRenamedKeys(t *testing.T) {
+	head := "[case]\nbase = \"template\"\n"
+	param := "[[param]]\nname = \"r\"\nmin = 0\nmax = 1\n"
+	design := "[design]\nscheme = \"factorial\"\n"
+	stage := "[[stage]]\nname = \"s\"\nrun = \"true\"\n"
+	quantity := "[[quantity]]\nname = \"drag\"\nfiles = \"f\"\nvalue = 2\n"
+	cases := []struct {
+		name, text string
+		want       string
+	}{
+		{"template", "[case]\ntemplate = \"template\"\n" + param + design + stage,
+			`study.toml:2: key "template" is now "base": write base = "DIR", the base case directory (relative to the recipe)`},
+		{"copy", head + "copy = [\"*.dat\"]\n" + param + design + stage,
+			`study.toml:3: key "copy" is now "private": write private = ["PATTERN", ...], the files each variant gets its own copy of`},
+		{"values", head + "[[param]]\nname = \"r\"\nvalues = [1, 2]\n" + design + stage,
+			`study.toml:5: key "values" is now "levels": write levels = [...] (numbers, or words in quotes)`},
+		{"choices", head + "[[param]]\nname = \"r\"\nchoices = [\"a\", \"b\"]\n" + design + stage,
+			`study.toml:5: key "choices" is now "levels": write levels = ["word", ...]`},
+		{"method", head + param + "[design]\nmethod = \"factorial\"\n" + stage,
+			`study.toml:8: key "method" is now "scheme": write scheme = "factorial" (or another scheme)`},
+		{"morris levels", head + param + "[design]\nscheme = \"morris\"\ntrajectories = 4\nlevels = 4\n" + stage,
+			`study.toml:10: key "levels" of [design] is now "grid_levels": write grid_levels = N, the levels of the Morris grid`},
+		{"goal", head + param + design + quantity + "goal = \"minimize\"\n" + stage,
+			`study.toml:13: key "goal" is now "better": write better = "lower" (was "minimize") or better = "higher" (was "maximize")`},
+		{"early_stop", head + param + design + quantity + stage + "[stage.early_stop]\nquantities = [\"drag\"]\nevery = \"2s\"\n",
+			`study.toml:16: table [stage.early_stop] is now [stage.settle] (the same keys inside): rename the table header`},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			_, err := Load(writeStudy(t, c.text))
+			if err == nil {
+				t.Fatal("an old key was accepted")
+			}
+			if !errors.Is(err, ErrInvalid) {
+				t.Errorf("error does not match ErrInvalid: %v", err)
+			}
+			if err.Error() != c.want {
+				t.Errorf("message\n %q\nwant\n %q", err.Error(), c.want)
+			}
+		})
+	}
+}
+
+// Ensure that levels take numbers or words with one key, and that the
+// better key sets the quantity's direction.
+func TestLoadLevelsAndBetter(t *testing.T) {
+	text := "[case]\nbase = \"template\"\n[[param]]\nname = \"n\"\nlevels = [2, 4.5, 8]\n[[param]]\nname = \"w\"\nlevels = [\"a\", \"b\"]\n" +
+		"[design]\nscheme = \"factorial\"\n[[quantity]]\nname = \"lift\"\nfiles = \"f\"\nvalue = 3\n[[quantity]]\nname = \"down\"\nfiles = \"f\"\nvalue = 2\nbetter = \"higher\"\n" +
+		"[[stage]]\nname = \"s\"\nrun = \"true\"\n"
+	r, err := Load(writeStudy(t, text))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p := r.Params[0]; p.Kind != Levels || len(p.Values) != 3 || p.Values[1] != 4.5 {
+		t.Errorf("numeric levels: %+v", p)
+	}
+	if p := r.Params[1]; p.Kind != Choice || strings.Join(p.Choices, ",") != "a,b" {
+		t.Errorf("word levels: %+v", p)
+	}
+	q, err := r.Objective("")
+	if err != nil || q.Name != "down" || q.Direction != Higher || !q.Better(2, 1) || q.Better(1, 2) || q.LowerIsBetter() {
+		t.Errorf("objective %+v, %v: want down, higher is better", q, err)
+	}
+	if l := r.Quantity("lift"); l.Direction != None || !l.Better(1, 2) {
+		t.Errorf("lift: %+v", l)
+	}
 }

@@ -11,7 +11,6 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/palette"
-	"gonum.org/v1/plot/palette/moreland"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -441,9 +440,7 @@ func contourFigure(c *Contour, response string) (template.HTML, error) {
 	if !(lo < hi) {
 		return "", fmt.Errorf("report: contour %s/%s: the surface is flat or undefined", c.XName, c.YName)
 	}
-	cmap := moreland.SmoothBlueRed()
-	cmap.SetMin(lo)
-	cmap.SetMax(hi)
+	cmap := scaleFor(lo, hi)
 
 	p := newPlot(c.XName, c.YName)
 	p.Add(cells{g, cmap})
@@ -455,7 +452,7 @@ func contourFigure(c *Contour, response string) (template.HTML, error) {
 		if err != nil {
 			return "", err
 		}
-		sc.GlyphStyle = draw.GlyphStyle{Shape: draw.RingGlyph{}, Color: colInk, Radius: vg.Points(3)}
+		sc.GlyphStyle = draw.GlyphStyle{Shape: haloGlyph{draw.RingGlyph{}}, Color: colInk, Radius: vg.Points(3)}
 		p.Add(sc)
 	}
 	if finite(c.OptX) && finite(c.OptY) {
@@ -463,7 +460,7 @@ func contourFigure(c *Contour, response string) (template.HTML, error) {
 		if err != nil {
 			return "", err
 		}
-		opt.GlyphStyle = draw.GlyphStyle{Shape: draw.CrossGlyph{}, Color: color.Black, Radius: vg.Points(5)}
+		opt.GlyphStyle = draw.GlyphStyle{Shape: haloGlyph{draw.CrossGlyph{}}, Color: color.Black, Radius: vg.Points(5)}
 		p.Add(opt)
 	}
 
@@ -735,4 +732,15 @@ func meshFigure(m MeshStudy, ylabel string) (template.HTML, error) {
 	}
 	p.Y.Min, p.Y.Max = p.Y.Min-0.08*span, p.Y.Max+0.08*span
 	return plotSVG(p, vg.Points(460), vg.Points(280))
+}
+
+// haloGlyph draws its glyph over a white disc, so that a marker stays
+// visible on both the dark and the light end of a colour scale.
+type haloGlyph struct{ draw.GlyphDrawer }
+
+func (h haloGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	c.SetColor(color.White)
+	draw.CircleGlyph{}.DrawGlyph(c, draw.GlyphStyle{Radius: sty.Radius * 1.2}, pt)
+	c.SetColor(sty.Color)
+	h.GlyphDrawer.DrawGlyph(c, sty, pt)
 }

@@ -10,7 +10,7 @@ type Study struct {
 	Params            []Param
 	Design            string // e.g. "full factorial, 9 points"
 	Objective         string // quantity name, e.g. "drag"
-	Goal              string // "minimize" or "maximize"
+	Better            string // "lower" or "higher": which values of the objective are better
 	Counts            Counts
 	Ranking           []RankRow // best first
 	Baseline          string    // label of the baseline variant, or ""

@@ -67,7 +67,7 @@ var page = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 <dl class="meta">
 <dt>Design</dt><dd>{{.Design}}</dd>
 <dt>Variants</dt><dd>{{.NVariants}}</dd>
-<dt>Objective</dt><dd>{{.Objective}}{{with .Goal}} ({{.}}){{end}}</dd>
+<dt>Objective</dt><dd>{{.Objective}}{{with .Better}} ({{.}} is better){{end}}</dd>
 {{with .Baseline}}<dt>Baseline</dt><dd>{{.}}</dd>{{end}}
 </dl>
 </div>

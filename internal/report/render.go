@@ -98,7 +98,7 @@ type view struct {
 	Params                       []Param
 	Design                       string
 	NVariants                    int
-	Objective, Goal              string
+	Objective, Better            string
 	Counts                       Counts
 	Total                        int
 	ParamNames                   []string
@@ -180,7 +180,7 @@ func buildView(s *Study) (*view, error) {
 		Design:      s.Design,
 		NVariants:   len(s.Variants),
 		Objective:   s.Objective,
-		Goal:        s.Goal,
+		Better:      s.Better,
 		Counts:      s.Counts,
 		Total:       s.Counts.Done + s.Counts.Failed + s.Counts.Pending + s.Counts.Running,
 		Baseline:    s.Baseline,

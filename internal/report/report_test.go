@@ -123,7 +123,7 @@ func testStudy(t testing.TB) Study {
 			{Name: "angle", Kind: "levels", Range: "0, 2, 4", Unit: "deg"},
 			{Name: "flap", Kind: "range", Range: "0 .. 0.4", Unit: "m"},
 		},
-		Design: "full factorial, 9 points", Objective: "drag coefficient", Goal: "minimize",
+		Design: "full factorial, 9 points", Objective: "drag coefficient", Better: "lower",
 		Counts:   Counts{Done: 3, Failed: 1},
 		Baseline: "v01",
 		Ranking: []RankRow{

@@ -43,7 +43,7 @@ type Row struct {
 // Ranking is a study's variants ordered by one quantity.
 type Ranking struct {
 	Quantity string `json:"quantity"`
-	Goal     string `json:"goal"`
+	Better   string `json:"better"` // "lower" or "higher": which values rank first
 	Rows     []Row  `json:"rows"`
 	// Left out: variants without a usable average (never ran, failed,
 	// no data), with the reason.
@@ -56,16 +56,16 @@ type Excluded struct {
 	Reason string `json:"reason"`
 }
 
-// Rank orders the variants by the quantity's mean (ascending when
-// minimize), with compact-letter significance groups from Welch's test at
-// 95 %. With a baseline label, each row also carries its difference from
-// the baseline.
-func Rank(vs []Variant, quantity string, minimize bool, baseline string) Ranking {
-	goal := "maximize"
-	if minimize {
-		goal = "minimize"
+// Rank orders the variants by the quantity's mean (ascending when lower
+// is better), with compact-letter significance groups from Welch's test
+// at 95 %. With a baseline label, each row also carries its difference
+// from the baseline.
+func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string) Ranking {
+	better := "higher"
+	if lowerIsBetter {
+		better = "lower"
 	}
-	rk := Ranking{Quantity: quantity, Goal: goal}
+	rk := Ranking{Quantity: quantity, Better: better}
 	var cands []harvest.Candidate
 	byLabel := map[string]*Variant{}
 	for i := range vs {
@@ -82,7 +82,7 @@ func Rank(vs []Variant, quantity string, minimize bool, baseline string) Ranking
 		byLabel[v.Label] = v
 		cands = append(cands, harvest.Candidate{Name: v.Label, Estimate: res.Estimate()})
 	}
-	ranked := harvest.Rank(cands, minimize, Confidence)
+	ranked := harvest.Rank(cands, lowerIsBetter, Confidence)
 	var base *harvest.Estimate
 	if b, ok := byLabel[baseline]; ok {
 		e := b.Results[quantity].Estimate()

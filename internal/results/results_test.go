@@ -18,18 +18,18 @@ import (
 )
 
 const studyText = `[case]
-template = "template"
+base = "template"
 [[param]]
 name = "k"
-values = [1, 2, 3, 4]
+levels = [1, 2, 3, 4]
 [design]
-method = "factorial"
+scheme = "factorial"
 [[quantity]]
 name = "drag"
 files = "hist*.dat"
 value = "Fx"
 scale = { density = 1.225, speed = 27.8, reference = 2.0 }
-goal = "minimize"
+better = "lower"
 relative_tolerance = 0.01
 [[stage]]
 name = "solve"

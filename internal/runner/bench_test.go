@@ -33,8 +33,8 @@ func BenchmarkDispatch(b *testing.B) {
 	for i := range vals {
 		vals[i] = strconv.Itoa(i + 1)
 	}
-	text := "[case]\ntemplate = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nvalues = [" +
-		strings.Join(vals, ", ") + "]\n[design]\nmethod = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"
+	text := "[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = [" +
+		strings.Join(vals, ", ") + "]\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"
 	os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(text), 0o644)
 	r, err := recipe.Load(filepath.Join(dir, recipe.FileName))
 	if err != nil {

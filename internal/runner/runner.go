@@ -113,10 +113,10 @@ type active struct {
 	// Early stop: when the averages were last checked, whether a check
 	// runs now, and whether the job was asked to stop because they have
 	// converged (graceEnd: deadline is then the end of its grace period).
-	lastCheck    time.Time
-	checking     bool
-	earlyStopped bool
-	graceEnd     bool
+	lastCheck time.Time
+	checking  bool
+	settled   bool
+	graceEnd  bool
 }
 
 type dispatcher struct {
@@ -158,7 +158,7 @@ func (d *dispatcher) loop(ctx context.Context) error {
 				heap.Pop(d.q)
 				d.free -= s.Cores
 				j.State, j.Token, j.PID, j.Cores = store.Running, uuid.NewString(), 0, s.Cores
-				j.Started, j.Ended, j.Reason, j.EarlyStop = time.Now().UTC(), time.Time{}, "", ""
+				j.Started, j.Ended, j.Reason, j.Settled = time.Now().UTC(), time.Time{}, "", ""
 				a := &active{job: j, vs: vs, stage: s, lastCheck: time.Now()}
 				if s.Timeout > 0 {
 					a.deadline = time.Now().Add(s.Timeout)
@@ -259,7 +259,7 @@ func (d *dispatcher) end(a *active, ev event) {
 	d.coreTime += ran * time.Duration(a.stage.Cores)
 	j.Attempts++
 	j.ExitCode = ev.Code
-	if a.earlyStopped || (ev.Code == 0 && ev.Err == "" && !a.timedOut) {
+	if a.settled || (ev.Code == 0 && ev.Err == "" && !a.timedOut) {
 		j.State, j.Reason, j.Tail = store.Done, "", nil
 		if a.vs.next() != nil {
 			heap.Push(d.q, a.vs)

@@ -38,8 +38,8 @@ func newStudy(t *testing.T, n int, stages string) (string, *recipe.Recipe) {
 	for i := range vals {
 		vals[i] = strconv.Itoa(i + 1)
 	}
-	text := "[case]\ntemplate = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nvalues = [" +
-		strings.Join(vals, ", ") + "]\n[design]\nmethod = \"factorial\"\n" + stages
+	text := "[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = [" +
+		strings.Join(vals, ", ") + "]\n[design]\nscheme = \"factorial\"\n" + stages
 	must(t, os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(text), 0o644))
 	r, err := recipe.Load(filepath.Join(dir, recipe.FileName))
 	must(t, err)

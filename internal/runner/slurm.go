@@ -397,7 +397,7 @@ func (sr *slurmRun) poll() error {
 		}
 		if !ended {
 			if stt[0] == "RUNNING" {
-				sr.earlyStop(a, vdir)
+				sr.settleCheck(a, vdir)
 			}
 			continue
 		}
@@ -405,7 +405,7 @@ func (sr *slurmRun) poll() error {
 		j := a.job
 		j.Ended = time.Now().UTC()
 		d.finished++
-		if ok || (a.earlyStopped && reason == "cancelled in Slurm") {
+		if ok || (a.settled && reason == "cancelled in Slurm") {
 			j.State, j.Reason, j.Attempts = store.Done, "", j.Attempts+1
 			changed = append(changed, j)
 			continue
@@ -451,12 +451,12 @@ func (sr *slurmRun) poll() error {
 	return nil
 }
 
-// earlyStop checks a running job's averages at each poll and, once they
+// settleCheck checks a running job's averages at each poll and, once they
 // have converged, asks it to stop: by a signal through scancel, by the
 // stop file on the shared filesystem, or by the recipe's command.
-func (sr *slurmRun) earlyStop(a *active, vdir string) {
-	es := a.stage.EarlyStop
-	if es == nil || a.earlyStopped || time.Since(a.lastCheck) < es.Every {
+func (sr *slurmRun) settleCheck(a *active, vdir string) {
+	es := a.stage.Settle
+	if es == nil || a.settled || time.Since(a.lastCheck) < es.Every {
 		return
 	}
 	a.lastCheck = time.Now()
@@ -465,14 +465,14 @@ func (sr *slurmRun) earlyStop(a *active, vdir string) {
 		q := sr.d.r.Quantity(name)
 		o := q.Opts
 		o.MinSamples = es.MinSamples
-		stop, res, err := harvest.EarlyStop(vdir, q.Spec, o)
+		stop, res, err := harvest.Settled(vdir, q.Spec, o)
 		if err != nil || !stop {
 			return
 		}
 		parts = append(parts, fmt.Sprintf("%s %s: %.6g ± %.2g (tolerance %.2g) at t = %.6g", name, res.Verdict, res.Mean, res.HalfWidth, res.Tolerance, res.EndTime))
 	}
-	a.earlyStopped = true
-	a.job.EarlyStop = "stopped early: " + strings.Join(parts, "; ")
+	a.settled = true
+	a.job.Settled = "stopped early: " + strings.Join(parts, "; ")
 	sr.d.commit([]*store.Job{a.job})
 	dir := filepath.Join(vdir, a.stage.Dir)
 	var err error

@@ -57,9 +57,9 @@ type Job struct {
 	ExitCode   int       `json:"exit_code,omitempty"`
 	Reason     string    `json:"reason,omitempty"` // why it failed, or why it was re-queued
 	Tail       []string  `json:"tail,omitempty"`   // last lines of the log of a failed run
-	// EarlyStop says why the run was stopped early once its averages had
+	// Settled says why the run was stopped early once its averages had
 	// converged ("" when it ran to its own end).
-	EarlyStop string `json:"early_stop,omitempty"`
+	Settled string `json:"early_stop,omitempty"`
 }
 
 // Key returns the job's database key: the variant's sequence number and

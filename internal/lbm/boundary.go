@@ -1,4 +1,4 @@
-package flow2d
+package lbm
 
 import "math"
 
@@ -165,7 +165,7 @@ func dirOf(ex, ey int) int {
 			return q
 		}
 	}
-	panic("flow2d: not a D2Q9 velocity")
+	panic("lbm: not a D2Q9 velocity")
 }
 
 // apply runs every rule on l.dst for the ramp factor s and returns the force

@@ -1,6 +1,6 @@
-// Package flow2d is the built-in two-dimensional flow solver: a lattice
+// Package lbm is the built-in two-dimensional flow solver: a lattice
 // Boltzmann solver for laminar flow past a body in a channel. It runs as a
-// separate process (the `sweep flow2d CASEFILE` subcommand), reads a case
+// separate process (the `sweep lbm CASEFILE` subcommand), reads a case
 // file and writes a force-coefficient history as plain text columns, as a
 // user's own solver would, so newcomers and the tests get a real unsteady
 // flow with a start-up transient, vortex shedding and a mean drag that
@@ -106,4 +106,4 @@
 // (bands: St 0.295-0.305, C_D max 3.22-3.24, C_L max 0.99-1.01), and plane
 // Poiseuille flow (profile within 0.11 % of the peak speed,
 // pressure gradient within 0.2 % at 16 cells across).
-package flow2d
+package lbm

@@ -1,4 +1,4 @@
-package flow2d
+package lbm
 
 import (
 	"math"

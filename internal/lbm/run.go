@@ -1,4 +1,4 @@
-package flow2d
+package lbm
 
 import (
 	"bufio"
@@ -26,7 +26,7 @@ type Result struct {
 }
 
 // ErrDiverged is returned when the solution blows up.
-var ErrDiverged = errors.New("flow2d: the solution diverged")
+var ErrDiverged = errors.New("lbm: the solution diverged")
 
 // Run simulates the case and writes the force-coefficient history to
 // c.Run.Output (resolved against dir when relative): a header line
@@ -53,7 +53,7 @@ func Run(ctx context.Context, c Case, dir string, log io.Writer) (Result, error)
 	}
 	f, err := os.Create(path)
 	if err != nil {
-		return Result{}, fmt.Errorf("flow2d: history file: %w", err)
+		return Result{}, fmt.Errorf("lbm: history file: %w", err)
 	}
 	res := Result{Output: path}
 	hist := &history{f: f, w: bufio.NewWriter(f)}
@@ -189,7 +189,7 @@ func (h *history) row(t, cd, cl float64) error {
 
 func (h *history) fail(err error) error {
 	if err != nil && h.err == nil {
-		h.err = fmt.Errorf("flow2d: write history: %w", err)
+		h.err = fmt.Errorf("lbm: write history: %w", err)
 	}
 	return h.err
 }

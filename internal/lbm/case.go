@@ -1,4 +1,4 @@
-package flow2d
+package lbm
 
 import (
 	"bufio"
@@ -12,7 +12,7 @@ import (
 	"github.com/BurntSushi/toml"
 )
 
-// Case is a flow2d case: a rectangular channel, an inflow, a body and the run
+// Case is a case of the built-in solver: a rectangular channel, an inflow, a body and the run
 // controls. Lengths are in units of the reference length L (the cylinder's
 // diameter, the box's height, or whatever the case chooses), velocities in
 // units of the reference velocity U (the mean inflow speed) and times in
@@ -153,7 +153,7 @@ func caseErr(key, format string, args ...any) *CaseError {
 func LoadCase(path string) (Case, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
-		return Case{}, fmt.Errorf("flow2d: read case: %w", err)
+		return Case{}, fmt.Errorf("lbm: read case: %w", err)
 	}
 	c, err := parseCase(data)
 	var ce *CaseError

@@ -1,4 +1,4 @@
-package flow2d
+package lbm
 
 import (
 	"fmt"
@@ -80,7 +80,7 @@ func (b box) bounds() (x0, y0, x1, y1 float64) {
 // inside or the end point is outside, which is a caller bug.
 func wallFraction(s shape, x, y, ex, ey float64) float64 {
 	if s.inside(x, y) || !s.inside(x+ex, y+ey) {
-		panic(fmt.Sprintf("flow2d: link (%g,%g)+(%g,%g) does not cross the body surface", x, y, ex, ey))
+		panic(fmt.Sprintf("lbm: link (%g,%g)+(%g,%g) does not cross the body surface", x, y, ex, ey))
 	}
 	lo, hi := 0.0, 1.0 // outside at lo, inside at hi
 	for it := 0; it < 60; it++ {

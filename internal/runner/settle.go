@@ -23,8 +23,8 @@ type check struct {
 
 // nextCheck is when the job's averages are next analysed (zero: never).
 func (a *active) nextCheck() time.Time {
-	es := a.stage.EarlyStop
-	if es == nil || a.stopping || a.earlyStopped || a.checking {
+	es := a.stage.Settle
+	if es == nil || a.stopping || a.settled || a.checking {
 		return time.Time{}
 	}
 	return a.lastCheck.Add(es.Every)
@@ -39,7 +39,7 @@ func (d *dispatcher) startChecks(now time.Time) {
 		}
 		a.checking = true
 		dir := plan.Dir(d.r.Dir, a.vs.v.Label)
-		es := a.stage.EarlyStop
+		es := a.stage.Settle
 		go func(tok string) {
 			c := check{token: tok, stop: true}
 			var parts []string
@@ -47,7 +47,7 @@ func (d *dispatcher) startChecks(now time.Time) {
 				q := d.r.Quantity(name)
 				opts := q.Opts
 				opts.MinSamples = es.MinSamples
-				stop, res, err := harvest.EarlyStop(dir, q.Spec, opts)
+				stop, res, err := harvest.Settled(dir, q.Spec, opts)
 				if err != nil {
 					c.stop, c.err = false, err
 					break
@@ -78,9 +78,9 @@ func (d *dispatcher) onCheck(c check) {
 	if c.err != nil || !c.stop || a.stopping {
 		return
 	}
-	es := a.stage.EarlyStop
-	a.earlyStopped = true
-	a.job.EarlyStop = "stopped early: " + c.reason
+	es := a.stage.Settle
+	a.settled = true
+	a.job.Settled = "stopped early: " + c.reason
 	// Give the solver the grace period to end by itself; then the usual
 	// stop (SIGTERM, SIGKILL) applies.
 	if end := time.Now().Add(d.opts.Grace); a.deadline.IsZero() || end.Before(a.deadline) {

@@ -57,7 +57,7 @@ func fakeSolver() int {
 // Ensure that a stage with an early stop is ended once its average has
 // converged, by a signal or by a stop file, and recorded as done with the
 // reason; the fake solver would otherwise run for a minute and fail.
-func TestEarlyStop(t *testing.T) {
+func TestSettle(t *testing.T) {
 	self, err := os.Executable()
 	must(t, err)
 	for _, by := range []string{`by = "signal"`, `by = "file"` + "\nfile = \"STOP\""} {
@@ -73,7 +73,7 @@ tolerance = 0.002
 name = "solve"
 run = %q
 env = { FAKE_SOLVER_FOR_TEST = "1" }
-[stage.early_stop]
+[stage.settle]
 quantities = ["y"]
 every = "200ms"
 min_samples = 5000
@@ -90,15 +90,15 @@ min_samples = 5000
 				t.Errorf("early stop took %s", el)
 			}
 			j := jobs(t, dir)[0]
-			if j.State != store.Done || j.ExitCode != 0 || !strings.HasPrefix(j.EarlyStop, "stopped early: y converged: ") ||
-				!strings.Contains(j.EarlyStop, "(tolerance 0.002)") {
+			if j.State != store.Done || j.ExitCode != 0 || !strings.HasPrefix(j.Settled, "stopped early: y converged: ") ||
+				!strings.Contains(j.Settled, "(tolerance 0.002)") {
 				t.Errorf("job %+v", j)
 			}
 			// The stopped history's average agrees with the known mean (1.0)
 			// within three half-widths (about six standard errors: the stop
 			// time, and so the sample, depends on timing).
 			var mean, hw float64
-			fmt.Sscanf(j.EarlyStop[strings.Index(j.EarlyStop, "converged: ")+len("converged: "):], "%g ± %g", &mean, &hw)
+			fmt.Sscanf(j.Settled[strings.Index(j.Settled, "converged: ")+len("converged: "):], "%g ± %g", &mean, &hw)
 			if hw <= 0 || hw > 0.002 || mean < 1-3*hw || mean > 1+3*hw {
 				t.Errorf("stopped average %g ± %g does not cover the true mean 1", mean, hw)
 			}
@@ -110,14 +110,14 @@ min_samples = 5000
 }
 
 // Ensure that a recipe's early stop must name declared quantities.
-func TestEarlyStopRecipe(t *testing.T) {
+func TestSettleRecipe(t *testing.T) {
 	dir := t.TempDir()
 	must(t, os.MkdirAll(filepath.Join(dir, "template"), 0o755))
-	text := "[case]\ntemplate = \"template\"\n[[param]]\nname = \"k\"\nvalues = [1]\n[design]\nmethod = \"factorial\"\n" +
-		"[[stage]]\nname = \"s\"\nrun = \"true\"\n[stage.early_stop]\nquantities = [\"drag\"]\nby = \"carrier pigeon\"\n"
+	text := "[case]\nbase = \"template\"\n[[param]]\nname = \"k\"\nlevels = [1]\n[design]\nscheme = \"factorial\"\n" +
+		"[[stage]]\nname = \"s\"\nrun = \"true\"\n[stage.settle]\nquantities = [\"drag\"]\nby = \"carrier pigeon\"\n"
 	must(t, os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(text), 0o644))
 	_, err := recipe.Load(filepath.Join(dir, recipe.FileName))
-	if err == nil || !strings.Contains(err.Error(), `study.toml:12: stage "s": early_stop names "drag", which is not a declared [[quantity]]`) ||
+	if err == nil || !strings.Contains(err.Error(), `study.toml:12: stage "s": [stage.settle] names "drag", which is not a declared [[quantity]]`) ||
 		!strings.Contains(err.Error(), `study.toml:13: stage "s": by must be "signal", "file" or "command"`) {
 		t.Errorf("err = %v", err)
 	}

@@ -1,4 +1,4 @@
-package flow2d
+package lbm
 
 import (
 	"math"
@@ -72,7 +72,7 @@ type lattice struct {
 // changing flags.
 func newLattice(nx, ny int, omegaPlus, omegaMinus float64) *lattice {
 	if nx < 2 || ny < 2 {
-		panic("flow2d: lattice needs at least 2 × 2 cells")
+		panic("lbm: lattice needs at least 2 × 2 cells")
 	}
 	NX := nx + 2
 	NN := NX * (ny + 2)

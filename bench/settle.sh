@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# Measures what the early stop saves on the demo study, and checks that the
+# Measures what the settle stop ([stage.settle]) saves on the demo study, and checks that the
 # early-stopped drag averages agree with full-length runs.
 #
 # It runs the demo study twice in the same session: once as shipped (each
@@ -9,7 +9,7 @@
 # each variant both averages, their 95 % half-widths, and whether the
 # difference lies within the two intervals combined.
 #
-# Usage: bench/earlystop.sh [WORKDIR]   (about 4 minutes on 2 cores)
+# Usage: bench/settle.sh [WORKDIR]   (about 4 minutes on 2 cores)
 #
 # Measured 2026-12 on the 2-core development machine: solver time 149.5 s
 # with the early stop against 305.4 s full length (ratio 0.49, 51 % saved);
@@ -31,7 +31,7 @@ run_study() { # name, keep early stop (yes/no)
 import sys, re
 p = sys.argv[1]
 s = open(p).read()
-s = s[:s.index("[stage.early_stop]")]  # the last table of the recipe
+s = s[:s.index("[stage.settle]")]  # the last table of the recipe
 open(p, "w").write(s)
 PY
 	fi
