@@ -58,7 +58,6 @@ func runStatus(w io.Writer, opts statusOptions, dir string) error {
 	if err != nil {
 		return err
 	}
-	live := store.Held(dir)
 	if opts.json {
 		return ui.JSON(w, rep)
 	}
@@ -72,7 +71,7 @@ func runStatus(w io.Writer, opts statusOptions, dir string) error {
 			line = append(line, val.String())
 		}
 		state := string(v.State)
-		if v.State == store.Running && !live {
+		if v.Orphaned {
 			state = "running?"
 		}
 		note := v.Reason
@@ -88,8 +87,17 @@ func runStatus(w io.Writer, opts statusOptions, dir string) error {
 	ui.Table(w, rows)
 	c := rep.Counts
 	fmt.Fprintf(w, "\n%d variants: %d done, %d running, %d failed, %d pending\n", len(rep.Variants), c.Done, c.Running, c.Failed, c.Pending)
-	if c.Running > 0 && !live {
-		fmt.Fprintf(w, "no run is active: the jobs marked running? were left by a run that ended abruptly; `sweep run %s` re-queues them\n", dir)
+	orphaned := 0
+	for _, v := range rep.Variants {
+		if v.Orphaned {
+			orphaned++
+		}
+	}
+	switch {
+	case orphaned > 0:
+		fmt.Fprintf(w, "no run and no executor is active: the %d jobs marked running? lost their processes (a reboot?); `sweep run %s` re-queues them\n", orphaned, dir)
+	case c.Running > 0 && !rep.RunActive && rep.ExecutorAlive:
+		fmt.Fprintf(w, "no run is attached, but the study's executor still runs its stages; `sweep run %s` takes them over without interrupting them\n", dir)
 	}
 	return nil
 }

@@ -15,9 +15,12 @@ import (
 
 func main() {
 	if runner.IsExecutor() {
-		os.Exit(runner.ExecutorMain(os.Stdin, os.Stdout))
+		os.Exit(runner.ExecutorMain())
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
+	// SIGHUP (a closed terminal) is not an interruption: `sweep run` goes
+	// on with its output in the study's log (see cmd_run.go); other
+	// commands end, as commands do.
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	cmd := newRootCmd()
 	err := cmd.ExecuteContext(ctx)

@@ -1,24 +1,35 @@
 // Package runner runs a study's stage jobs from its persistent queue on
-// the local machine's cores.
+// the local machine's cores (and, in slurm.go, through Slurm).
 //
 // # Crash safety
 //
 // The study database is the truth. The runner commits the intent to start
-// a job (state running, with a fresh token) before it starts the job, and
-// commits the job's end before it acts on it (starting the next stage,
-// retrying). Processes are started and waited for by a small executor
-// process (the same binary, started with SWEEP_EXECUTOR set), in its own
-// process group, so a runner killed at any instant, even by SIGKILL,
-// loses nothing:
+// a job (state running, with a fresh token) before it starts the job,
+// commits the reason for stopping a job (Ctrl-C, a timeout, settled
+// averages) before it sends the stop, and commits the job's end before it
+// acts on it (starting the next stage, retrying).
 //
-//   - a job that ended but whose end was not yet committed is written by
-//     the executor to .sweep/exits (fsynced) when it sees the runner gone,
-//     and the next run commits it: a finished job is never run twice;
-//   - jobs still running are stopped by the executor (SIGTERM to the
-//     process group, SIGKILL after a grace period) and the next run
-//     re-queues them as interrupted, not failed: no job is lost.
+// Processes are started and waited for by the study's executor: this same
+// binary, started with SWEEP_EXECUTOR set, in a session of its own, and
+// reached over a Unix socket in .sweep/. It outlives its runner, so a
+// runner that dies at any instant, even by SIGKILL, costs no solver time:
 //
-// The next run waits for the previous executor to finish this cleanup (it
-// holds .sweep/executor.lock while alive), and as a last resort stops any
-// process still carrying a lost job's token in its environment.
+//   - the stages keep running; the executor keeps each end in memory and
+//     in its journal (.sweep/exits) until a runner has committed it;
+//   - the next `sweep run` connects to the same executor, commits the ends
+//     that happened meanwhile, and takes the running stages over without
+//     interrupting them.
+//
+// When the executor is gone too (a reboot), the next run commits the ends
+// its journal holds, stops any process still carrying a lost job's token
+// in its environment (checked through a pidfd, so a reused PID is never
+// hit), and re-queues the rest. Every end is judged by one rule
+// (judgeEnd): a run the program caused to stop is an interruption
+// whatever its exit status, unless its averages had settled or it timed
+// out.
+//
+// A stage's processes are its own process group, plus any descendant that
+// carries its token; the executor is a child subreaper, so descendants
+// that leave the group with setsid are re-parented to it and stopped with
+// their stage (procs.go).
 package runner

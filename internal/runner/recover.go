@@ -1,97 +1,99 @@
 package runner
 
 import (
-	"bufio"
-	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
-	"strconv"
-	"syscall"
 	"time"
 
+	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
-// waitForExecutor waits until no executor of an earlier run is alive (it
-// may still be stopping that run's jobs and writing their ends).
-func waitForExecutor(ctx context.Context, meta string, p Progress) error {
-	f, err := os.OpenFile(filepath.Join(meta, "executor.lock"), os.O_RDWR|os.O_CREATE, 0o644)
-	if err != nil {
-		return err
+// takeOver brings the database in line with what the study's executor
+// knows, before a run dispatches anything, and returns a connection to
+// the executor and the jobs that still run (the new run adopts them).
+//
+// If an executor is alive (the previous runner died but its stages went
+// on), its greeting lists the stages that run and the ends no runner
+// committed: the ends are judged and committed, the running stages are
+// adopted, untouched. A job the database says runs but the executor does
+// not know was never started; it goes back to the queue.
+//
+// If no executor is alive (a reboot, or both were killed), the ends it
+// journalled in .sweep/exits are committed; a job without an end lost its
+// process, or its process lives on without an executor to report its end
+// (it carries its token in its environment): such processes are stopped,
+// and their jobs re-queued. Then a new executor is started.
+func takeOver(ctx context.Context, st *store.Store, r *recipe.Recipe, meta, exe string, p Progress) (*execClient, []store.Job, error) {
+	x, err := connectExecutor(ctx, meta, p)
+	fresh := errors.Is(err, errNoExecutor)
+	if err != nil && !fresh {
+		return nil, nil, err
 	}
-	defer f.Close()
-	told := false
-	deadline := time.Now().Add(2 * time.Minute)
-	for {
-		err := syscall.Flock(int(f.Fd()), syscall.LOCK_EX|syscall.LOCK_NB)
-		if err == nil {
-			return syscall.Flock(int(f.Fd()), syscall.LOCK_UN)
+	ends, live := map[string]event{}, map[string]int{}
+	journal := filepath.Join(meta, journalName)
+	if fresh {
+		if ends, err = readJournal(journal); err != nil {
+			return nil, nil, fmt.Errorf("read %s: %w", journal, err)
 		}
-		if !errors.Is(err, syscall.EWOULDBLOCK) {
-			return fmt.Errorf("executor lock: %w", err)
-		}
-		if !told {
-			p.Event("waiting for the previous run's executor to stop its jobs")
-			told = true
-		}
-		if time.Now().After(deadline) {
-			return errors.New("the previous run's executor is still alive after 2 minutes; find it with `pgrep -f sweep` and stop it")
-		}
-		select {
-		case <-ctx.Done():
-			return ctx.Err()
-		case <-time.After(100 * time.Millisecond):
-		}
+	} else {
+		ends, live = x.exits, x.live
 	}
-}
-
-// recoverJobs settles jobs that an earlier run left in the running state:
-// a job whose end the executor kept in the exits journal gets that end; a
-// job without one was stopped unfinished and goes back to the queue.
-func recoverJobs(st *store.Store, meta string, p Progress) error {
-	journal := filepath.Join(meta, "exits")
-	ends, err := readJournal(journal)
-	if err != nil {
-		return err
-	}
-	var stray []string
-	err = st.View(func(tx *store.Tx) error {
+	var lost []string
+	if err := st.View(func(tx *store.Tx) error {
 		return tx.Jobs(func(j store.Job) error {
-			if j.State == store.Running {
-				if _, ok := ends[j.Token]; !ok {
-					stray = append(stray, j.Token)
-				}
+			if j.State == store.Running && ends[j.Token].Token == "" && live[j.Token] == 0 {
+				lost = append(lost, j.Token)
 			}
 			return nil
 		})
-	})
-	if err != nil {
-		return err
+	}); err != nil {
+		if x != nil {
+			x.close()
+		}
+		return nil, nil, err
 	}
-	if len(stray) > 0 {
-		// Normally the executor stopped these; if it was killed too, their
-		// processes may live on. They carry their token in the environment.
-		if n := stopTokens(stray); n > 0 {
-			p.Event(fmt.Sprintf("stopped %d leftover processes of jobs lost by an earlier run", n))
+	if fresh && len(lost) > 0 {
+		n := 0
+		for tok, pids := range tokenProcesses(lost) {
+			n += stopProcesses(pids, tok, 10*time.Second)
+		}
+		if n > 0 {
+			p.Event(fmt.Sprintf("stopped %d process(es) of stages whose executor had ended; their stages run again", n))
 		}
 	}
-	recovered, requeued := 0, 0
+	stages := map[string]recipe.Stage{}
+	for _, s := range r.Stages {
+		stages[s.Name] = s
+	}
+	var adopted []store.Job
+	kept, requeued := 0, 0
+	now := time.Now()
 	err = st.Update(func(tx *store.Tx) error {
 		var fix []store.Job
 		if err := tx.Jobs(func(j store.Job) error {
 			if j.State != store.Running {
 				return nil
 			}
-			if ev, ok := ends[j.Token]; ok {
-				settle(&j, ev)
-				recovered++
-			} else {
-				j.State, j.Interrupts, j.Token, j.PID = store.Pending, j.Interrupts+1, "", 0
-				j.Reason = "the run that started it ended before it did; re-queued"
+			switch ev, ok := ends[j.Token]; {
+			case ok:
+				if judgeEnd(&j, ev, stages[j.Stage], now) == endFailed {
+					j.Reason += " (while no runner was watching)"
+				}
+				kept++
+			case live[j.Token] != 0:
+				j.PID = live[j.Token]
+				adopted = append(adopted, j)
+				return nil
+			default:
+				j.State, j.Interrupts, j.Token, j.PID, j.Stopping = store.Pending, j.Interrupts+1, "", 0, ""
+				j.Reason = "its process ended without a recorded end (its executor was gone); re-queued"
+				if !fresh {
+					j.Reason = "the run that claimed it ended before starting it; re-queued"
+				}
 				requeued++
 			}
 			fix = append(fix, j)
@@ -107,97 +109,31 @@ func recoverJobs(st *store.Store, meta string, p Progress) error {
 		return nil
 	})
 	if err != nil {
-		return err
+		if x != nil {
+			x.close()
+		}
+		return nil, nil, fmt.Errorf("recover after the previous run: %w", err)
 	}
-	if recovered+requeued > 0 {
-		p.Event(fmt.Sprintf("recovered from an interrupted run: %d job ends kept, %d unfinished jobs re-queued", recovered, requeued))
+	if kept+requeued > 0 {
+		p.Event(fmt.Sprintf("recovered from the previous run: %d job ends kept, %d unfinished jobs re-queued", kept, requeued))
 	}
-	if err := os.Remove(journal); err != nil && !errors.Is(err, os.ErrNotExist) {
-		return err
+	if len(adopted) > 0 {
+		p.Event(fmt.Sprintf("took over %d running stage(s) the previous run left; they were not interrupted", len(adopted)))
 	}
-	return nil
-}
-
-// settle records an end the executor journalled. Retries are left to the
-// next dispatch: a failed end with attempts left goes back to pending.
-func settle(j *store.Job, ev event) {
-	j.Attempts++
-	j.Ended = time.Now().UTC()
-	j.ExitCode = ev.Code
-	j.PID = 0
-	if ev.Code == 0 && ev.Err == "" {
-		j.State, j.Reason = store.Done, ""
-		return
+	if fresh {
+		if err := os.Remove(journal); err != nil && !errors.Is(err, os.ErrNotExist) {
+			return nil, nil, err
+		}
+		if x, err = startExecutor(ctx, exe, meta); err != nil {
+			return nil, nil, err
+		}
+		return x, nil, nil
 	}
-	j.State = store.Failed
-	switch {
-	case ev.Err != "":
-		j.Reason = "could not start: " + ev.Err
-	case ev.Signal != "":
-		j.Reason = "killed by signal: " + ev.Signal
-	default:
-		j.Reason = fmt.Sprintf("exit status %d", ev.Code)
-	}
-	j.Reason += " (while no runner was watching; `sweep reset --failed` re-queues it)"
-}
-
-func readJournal(path string) (map[string]event, error) {
-	ends := map[string]event{}
-	f, err := os.Open(path)
-	if errors.Is(err, os.ErrNotExist) {
-		return ends, nil
-	}
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	sc := bufio.NewScanner(f)
-	for sc.Scan() {
-		var ev event
-		if json.Unmarshal(sc.Bytes(), &ev) == nil && ev.Token != "" {
-			ends[ev.Token] = ev
+	for tok := range ends {
+		if err := x.send(request{Op: "ack", Token: tok}); err != nil {
+			x.close()
+			return nil, nil, err
 		}
 	}
-	return ends, sc.Err()
-}
-
-// stopTokens stops every process whose environment carries one of the
-// tokens (Linux /proc; elsewhere it finds none) and returns how many it
-// signalled.
-func stopTokens(tokens []string) int {
-	want := map[string]bool{}
-	for _, t := range tokens {
-		want[tokenEnv+"="+t] = true
-	}
-	ents, err := os.ReadDir("/proc")
-	if err != nil {
-		return 0
-	}
-	var pids []int
-	for _, e := range ents {
-		pid, err := strconv.Atoi(e.Name())
-		if err != nil || pid == os.Getpid() {
-			continue
-		}
-		env, err := os.ReadFile(filepath.Join("/proc", e.Name(), "environ"))
-		if err != nil {
-			continue
-		}
-		for _, kv := range bytes.Split(env, []byte{0}) {
-			if want[string(kv)] {
-				pids = append(pids, pid)
-				break
-			}
-		}
-	}
-	for _, pid := range pids {
-		syscall.Kill(pid, syscall.SIGTERM)
-	}
-	if len(pids) > 0 {
-		time.Sleep(2 * time.Second)
-		for _, pid := range pids {
-			syscall.Kill(pid, syscall.SIGKILL)
-		}
-	}
-	return len(pids)
+	return x, adopted, nil
 }

@@ -4,15 +4,12 @@ import (
 	"bufio"
 	"container/heap"
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strings"
-	"syscall"
 	"time"
 
 	"github.com/google/uuid"
@@ -67,31 +64,25 @@ func Run(ctx context.Context, r *recipe.Recipe, opts Options) (*Snapshot, error)
 	}
 	defer st.Close()
 	meta := filepath.Join(r.Dir, store.Dir)
-	if err := waitForExecutor(ctx, meta, opts.Progress); err != nil {
-		return nil, err
-	}
-	if err := recoverJobs(st, meta, opts.Progress); err != nil {
-		return nil, fmt.Errorf("recover after the previous run: %w", err)
-	}
-	q, err := load(st, r)
-	if err != nil {
-		return nil, err
-	}
 	exe := opts.Executable
 	if exe == "" {
 		if exe, err = os.Executable(); err != nil {
 			return nil, fmt.Errorf("find this program to start its executor: %w", err)
 		}
 	}
-	x, err := startExecutor(exe, meta)
+	x, adopted, err := takeOver(ctx, st, r, meta, exe, opts.Progress)
 	if err != nil {
 		return nil, err
 	}
-	d := &dispatcher{r: r, st: st, q: q, x: x, opts: opts, exe: exe, free: opts.Cores, running: map[string]*active{}, start: time.Now(), checks: make(chan check, 64)}
-	runErr := d.loop(ctx)
-	if cerr := x.close(); runErr == nil && cerr != nil {
-		runErr = cerr
+	q, err := load(st, r)
+	if err != nil {
+		x.close()
+		return nil, err
 	}
+	d := &dispatcher{r: r, st: st, q: q, x: x, opts: opts, exe: exe, free: opts.Cores, running: map[string]*active{}, start: time.Now(), checks: make(chan check, 64)}
+	d.adopt(adopted)
+	runErr := d.loop(ctx)
+	x.close()
 	snap := d.snapshot()
 	opts.Progress.Update(snap)
 	if runErr == nil && ctx.Err() != nil {
@@ -102,20 +93,17 @@ func Run(ctx context.Context, r *recipe.Recipe, opts Options) (*Snapshot, error)
 
 // active is a running job.
 type active struct {
-	job       *store.Job
-	vs        *vstate
-	stage     recipe.Stage
-	deadline  time.Time // zero: none
-	stopping  bool
-	timedOut  bool
-	interrupt bool
+	job      *store.Job
+	vs       *vstate
+	stage    recipe.Stage
+	deadline time.Time // zero: none
+	stopping bool      // a stop was sent
 
-	// Early stop: when the averages were last checked, whether a check
-	// runs now, and whether the job was asked to stop because they have
-	// converged (graceEnd: deadline is then the end of its grace period).
+	// Settle checks: when the averages were last checked, whether a check
+	// runs now, and graceEnd: deadline is the end of the grace period the
+	// solver was given to stop by itself once they had settled.
 	lastCheck time.Time
 	checking  bool
-	settled   bool
 	graceEnd  bool
 }
 
@@ -130,11 +118,39 @@ type dispatcher struct {
 	running map[string]*active
 	start   time.Time
 	checks  chan check
+	// actions are sent to the executor (or run) after the next commit:
+	// each acts on an intent that must be in the database first.
+	actions []func() error
 
 	finished  int           // jobs ended this run
 	busy      time.Duration // summed run time of jobs ended this run
 	coreTime  time.Duration // summed cores x run time of jobs ended this run
 	lastShown time.Time
+}
+
+// adopt attaches the jobs a previous run left running, which the
+// executor still runs, to this run.
+func (d *dispatcher) adopt(jobs []store.Job) {
+	for _, aj := range jobs {
+		for _, vs := range d.q.all {
+			if vs.v.Seq != aj.Variant {
+				continue
+			}
+			for _, j := range vs.jobs {
+				if j.Stage != aj.Stage || j.Token != aj.Token {
+					continue
+				}
+				j.PID = aj.PID
+				s := d.r.Stages[j.Index]
+				a := &active{job: j, vs: vs, stage: s, lastCheck: time.Now(), stopping: j.Stopping != ""}
+				if s.Timeout > 0 {
+					a.deadline = j.Started.Add(s.Timeout)
+				}
+				d.running[j.Token] = a
+				d.free -= s.Cores
+			}
+		}
+	}
 }
 
 func (d *dispatcher) loop(ctx context.Context) error {
@@ -158,7 +174,7 @@ func (d *dispatcher) loop(ctx context.Context) error {
 				heap.Pop(d.q)
 				d.free -= s.Cores
 				j.State, j.Token, j.PID, j.Cores = store.Running, uuid.NewString(), 0, s.Cores
-				j.Started, j.Ended, j.Reason, j.Settled = time.Now().UTC(), time.Time{}, "", ""
+				j.Started, j.Ended, j.Reason, j.Settled, j.Stopping = time.Now().UTC(), time.Time{}, "", "", ""
 				a := &active{job: j, vs: vs, stage: s, lastCheck: time.Now()}
 				if s.Timeout > 0 {
 					a.deadline = time.Now().Add(s.Timeout)
@@ -169,18 +185,28 @@ func (d *dispatcher) loop(ctx context.Context) error {
 		}
 		if len(dirty) > 0 {
 			if err := d.commit(dirty); err != nil {
-				return d.abort(err, starts)
+				return d.abort(err)
 			}
 			dirty = dirty[:0]
 		}
 		for _, t := range acks {
-			d.x.send(request{Op: "ack", Token: t})
+			if err := d.x.send(request{Op: "ack", Token: t}); err != nil {
+				return err
+			}
 		}
 		acks = acks[:0]
 		for _, a := range starts {
 			d.running[a.job.Token] = a
-			d.x.send(d.startRequest(a))
+			if err := d.x.send(d.startRequest(a)); err != nil {
+				return err
+			}
 		}
+		for _, act := range d.actions {
+			if err := act(); err != nil {
+				return err
+			}
+		}
+		d.actions = d.actions[:0]
 		d.show(false)
 		if len(d.running) == 0 && (stopping || d.q.Len() == 0) {
 			return nil
@@ -195,7 +221,7 @@ func (d *dispatcher) loop(ctx context.Context) error {
 		select {
 		case ev, ok := <-d.x.events:
 			if !ok {
-				return fmt.Errorf("the executor process stopped unexpectedly (%v); the jobs it ran are re-queued by the next run", d.x.wait())
+				return errors.New("lost the connection to the executor; its stages go on, and the next `sweep run` takes them over")
 			}
 			evs = append(evs, ev)
 		drain:
@@ -211,16 +237,19 @@ func (d *dispatcher) loop(ctx context.Context) error {
 				}
 			}
 		case <-timer:
-			d.expire()
+			dirty = append(dirty, d.expire()...)
 			d.startChecks(time.Now())
 		case c := <-d.checks:
-			d.onCheck(c)
+			if j := d.onCheck(c); j != nil {
+				dirty = append(dirty, j)
+			}
 		case <-tick.C:
 		case <-cancelled:
 			cancelled = nil
 			stopping = true
 			for _, a := range d.running {
-				a.interrupt = true
+				a.job.Stopping = store.StopInterrupt
+				dirty = append(dirty, a.job)
 				d.stop(a)
 			}
 		}
@@ -247,45 +276,27 @@ func (d *dispatcher) loop(ctx context.Context) error {
 // end records how a job ended and queues what follows.
 func (d *dispatcher) end(a *active, ev event) {
 	j := a.job
-	j.Ended = time.Now().UTC()
-	j.PID = 0
-	ran := j.Ended.Sub(j.Started)
-	if a.interrupt {
-		j.State, j.Interrupts, j.Reason, j.Token = store.Pending, j.Interrupts+1, "interrupted by the user", ""
+	now := time.Now()
+	ran := now.Sub(j.Started)
+	kind := judgeEnd(j, ev, a.stage, now)
+	if kind == endInterrupted {
 		return
 	}
 	d.finished++
 	d.busy += ran
 	d.coreTime += ran * time.Duration(a.stage.Cores)
-	j.Attempts++
-	j.ExitCode = ev.Code
-	if a.settled || (ev.Code == 0 && ev.Err == "" && !a.timedOut) {
-		j.State, j.Reason, j.Tail = store.Done, "", nil
+	switch kind {
+	case endDone:
 		if a.vs.next() != nil {
 			heap.Push(d.q, a.vs)
 		}
-		return
-	}
-	var why string
-	switch {
-	case a.timedOut:
-		why = fmt.Sprintf("timed out after %s", a.stage.Timeout)
-	case ev.Err != "":
-		why = "could not start: " + ev.Err
-	case ev.Signal != "":
-		why = "killed by signal: " + ev.Signal
-	default:
-		why = fmt.Sprintf("exit status %d", ev.Code)
-	}
-	if j.Attempts <= a.stage.Retries {
-		j.State, j.Reason = store.Pending, why+"; retried"
+	case endRetry:
 		heap.Push(d.q, a.vs)
-		d.opts.Progress.Event(fmt.Sprintf("%s %s: %s; retrying (attempt %d of %d)", a.vs.v.Label, j.Stage, why, j.Attempts+1, a.stage.Retries+1))
-		return
+		d.opts.Progress.Event(fmt.Sprintf("%s %s: %s; retrying (attempt %d of %d)", a.vs.v.Label, j.Stage, strings.TrimSuffix(j.Reason, "; retried"), j.Attempts+1, a.stage.Retries+1))
+	case endFailed:
+		j.Tail = attemptTail(d.logPath(a), 20)
+		d.opts.Progress.Event(fmt.Sprintf("%s %s failed: %s (log: %s)", a.vs.v.Label, j.Stage, j.Reason, d.logPath(a)))
 	}
-	j.State, j.Reason = store.Failed, why
-	j.Tail = tail(d.logPath(a), 20)
-	d.opts.Progress.Event(fmt.Sprintf("%s %s failed: %s (log: %s)", a.vs.v.Label, j.Stage, why, d.logPath(a)))
 }
 
 func (d *dispatcher) commit(jobs []*store.Job) error {
@@ -299,22 +310,26 @@ func (d *dispatcher) commit(jobs []*store.Job) error {
 	})
 }
 
-// abort gives up after a failed commit: the claimed jobs were never
-// started, so the database (which still says pending) is right.
-func (d *dispatcher) abort(err error, claimed []*active) error {
-	for _, a := range d.running {
-		a.interrupt = true
-		d.stop(a)
-	}
-	return fmt.Errorf("record job states: %w", err)
+// abort gives up after a failed commit. Jobs claimed in the failed commit
+// were never started, so the database (which still says pending) is
+// right. Running jobs are left to the executor: the next run takes them
+// over.
+func (d *dispatcher) abort(err error) error {
+	return fmt.Errorf("record job states: %w; running stages go on, and the next `sweep run` takes them over", err)
 }
 
+// stop asks the executor, after the next commit, to stop a job (SIGTERM,
+// then SIGKILL after the grace period). The caller has set the job's
+// Stopping reason, which that commit records first.
 func (d *dispatcher) stop(a *active) {
 	if a.stopping {
 		return
 	}
 	a.stopping = true
-	d.x.send(request{Op: "stop", Token: a.job.Token, Grace: d.opts.Grace.Milliseconds()})
+	tok := a.job.Token
+	d.actions = append(d.actions, func() error {
+		return d.x.send(request{Op: "stop", Token: tok, Grace: d.opts.Grace.Milliseconds()})
+	})
 }
 
 func (d *dispatcher) nextDeadline() (time.Time, bool) {
@@ -330,14 +345,22 @@ func (d *dispatcher) nextDeadline() (time.Time, bool) {
 	return dl, !dl.IsZero()
 }
 
-func (d *dispatcher) expire() {
+// expire stops the jobs past their deadline and returns those whose
+// record changed: a timeout is committed before its stop is sent. A
+// settled job past its grace period is stopped as settled.
+func (d *dispatcher) expire() []*store.Job {
 	now := time.Now()
+	var changed []*store.Job
 	for _, a := range d.running {
 		if !a.deadline.IsZero() && !a.stopping && !now.Before(a.deadline) {
-			a.timedOut = !a.graceEnd
+			if !a.graceEnd {
+				a.job.Stopping = store.StopTimeout
+				changed = append(changed, a.job)
+			}
 			d.stop(a)
 		}
 	}
+	return changed
 }
 
 func (d *dispatcher) logPath(a *active) string {
@@ -348,8 +371,8 @@ func (d *dispatcher) startRequest(a *active) request {
 	vdir := plan.Dir(d.r.Dir, a.vs.v.Label)
 	env := append(os.Environ(), d.r.Env(a.vs.v.Values, a.vs.v.ID, a.vs.v.Label, vdir, a.stage)...)
 	env = append(env, recipe.EnvPrefix+"BIN="+d.exe)
-	header := fmt.Sprintf("=== sweep: stage %s of %s, attempt %d, started %s ===\n",
-		a.stage.Name, a.vs.v.Label, a.job.Attempts+1, a.job.Started.Local().Format(time.DateTime))
+	header := fmt.Sprintf("=== sweep: stage %s of %s, attempt %d, started %s, token %s ===\n",
+		a.stage.Name, a.vs.v.Label, a.job.Attempts+1, a.job.Started.Local().Format(time.DateTime), a.job.Token)
 	argv := a.stage.Argv
 	if a.stage.ContinueArgv != nil && (a.job.Attempts > 0 || a.job.Interrupts > 0) {
 		argv = a.stage.ContinueArgv
@@ -360,6 +383,26 @@ func (d *dispatcher) startRequest(a *active) request {
 	}
 	return request{Op: "start", Token: a.job.Token, Argv: argv, Env: env,
 		Dir: filepath.Join(vdir, a.stage.Dir), Log: d.logPath(a), Header: header}
+}
+
+// attemptTail returns the last n lines the last attempt wrote to a stage
+// log: the lines after the program's last header, without its own
+// markers ("=== sweep: ...").
+func attemptTail(path string, n int) []string {
+	var out []string
+	for _, l := range tail(path, 200) {
+		if strings.HasPrefix(l, "=== sweep: stage ") {
+			out = out[:0]
+			continue
+		}
+		if !strings.HasPrefix(l, "=== sweep: ") {
+			out = append(out, l)
+		}
+	}
+	if len(out) > n {
+		out = out[len(out)-n:]
+	}
+	return out
 }
 
 // tail returns the last n lines of a file.
@@ -383,69 +426,4 @@ func tail(path string, n int) []string {
 		}
 	}
 	return lines
-}
-
-// execClient talks to the executor process.
-type execClient struct {
-	cmd    *exec.Cmd
-	in     io.WriteCloser
-	enc    *json.Encoder
-	events chan event
-	done   chan error
-}
-
-func startExecutor(exe, meta string) (*execClient, error) {
-	cmd := exec.Command(exe)
-	cmd.Env = append(os.Environ(), executorEnv+"="+meta)
-	cmd.Stderr = os.Stderr
-	// Its own process group: a Ctrl-C at the terminal reaches the runner,
-	// which stops jobs in order, and not the executor.
-	cmd.SysProcAttr = &syscall.SysProcAttr{Setpgid: true}
-	in, err := cmd.StdinPipe()
-	if err != nil {
-		return nil, err
-	}
-	out, err := cmd.StdoutPipe()
-	if err != nil {
-		return nil, err
-	}
-	if err := cmd.Start(); err != nil {
-		return nil, fmt.Errorf("start the executor (%s): %w", exe, err)
-	}
-	c := &execClient{cmd: cmd, in: in, enc: json.NewEncoder(in), events: make(chan event, 1024), done: make(chan error, 1)}
-	go func() {
-		dec := json.NewDecoder(bufio.NewReader(out))
-		for {
-			var ev event
-			if err := dec.Decode(&ev); err != nil {
-				break
-			}
-			c.events <- ev
-		}
-		close(c.events)
-		c.done <- cmd.Wait()
-	}()
-	return c, nil
-}
-
-func (c *execClient) send(req request) { c.enc.Encode(req) }
-
-func (c *execClient) wait() error {
-	select {
-	case err := <-c.done:
-		c.done <- err
-		return err
-	case <-time.After(time.Second):
-		return errors.New("no exit status")
-	}
-}
-
-func (c *execClient) close() error {
-	c.in.Close()
-	for range c.events {
-	}
-	if err := <-c.done; err != nil {
-		return fmt.Errorf("executor: %w", err)
-	}
-	return nil
 }

@@ -19,7 +19,7 @@ import (
 // The test binary doubles as the executor, as the sweep binary does.
 func TestMain(m *testing.M) {
 	if IsExecutor() {
-		os.Exit(ExecutorMain(os.Stdin, os.Stdout))
+		os.Exit(ExecutorMain())
 	}
 	if os.Getenv("FAKE_SOLVER_FOR_TEST") != "" {
 		os.Exit(fakeSolver())
@@ -238,14 +238,17 @@ run = "sh -c 'sleep 1; echo $SWEEP_PARAM_K >> ../../finished'"
 	}
 }
 
-// Ensure that recovery keeps a job end that the executor journalled after
-// its runner died, and re-queues a running job that has none.
+// Ensure that recovery keeps the job ends an executor journalled after
+// its runner died (a clean end is done; a failure with a retry left goes
+// back to the queue; a stop the executor caused is an interruption
+// whatever its exit status), and re-queues a running job that has none.
 func TestRecoverJournal(t *testing.T) {
-	dir, _ := newStudy(t, 2, "[[stage]]\nname = \"solve\"\nrun = \"true\"\n")
+	dir, r := newStudy(t, 4, "[[stage]]\nname = \"solve\"\nrun = \"true\"\nretries = 1\n")
 	st, err := store.OpenExisting(dir, store.Options{})
 	must(t, err)
+	toks := []string{"tok-ended", "tok-failed", "tok-stopped", "tok-lost"}
 	must(t, st.Update(func(tx *store.Tx) error {
-		for i, tok := range []string{"tok-ended", "tok-lost"} {
+		for i, tok := range toks {
 			j, _, _ := tx.Job(uint64(i+1), 0)
 			j.State, j.Token = store.Running, tok
 			if err := tx.PutJob(j); err != nil {
@@ -255,21 +258,37 @@ func TestRecoverJournal(t *testing.T) {
 		return nil
 	}))
 	meta := filepath.Join(dir, store.Dir)
-	must(t, os.WriteFile(filepath.Join(meta, "exits"), []byte(`{"token":"tok-ended","ev":"exit","code":0}`+"\n"), 0o644))
+	journal := `{"token":"tok-ended","ev":"exit","code":0}
+{"token":"tok-failed","ev":"exit","code":3}
+{"token":"tok-stopped","ev":"exit","code":0,"stopped":true}
+`
+	must(t, os.WriteFile(filepath.Join(meta, "exits"), []byte(journal), 0o600))
 	var events []string
-	must(t, recoverJobs(st, meta, eventRecorder{&events}))
+	exe, _ := os.Executable()
+	x, adopted, err := takeOver(context.Background(), st, r, meta, exe, eventRecorder{&events})
+	must(t, err)
+	x.close()
 	st.Close()
+	if len(adopted) != 0 {
+		t.Errorf("adopted %d jobs from a dead executor", len(adopted))
+	}
 	js := jobs(t, dir)
 	if js[0].State != store.Done || js[0].Attempts != 1 {
-		t.Errorf("journalled job: %+v", js[0])
+		t.Errorf("journalled clean end: %+v", js[0])
 	}
-	if js[1].State != store.Pending || js[1].Interrupts != 1 {
-		t.Errorf("lost job: %+v", js[1])
+	if js[1].State != store.Pending || js[1].Attempts != 1 || js[1].Reason != "exit status 3; retried" {
+		t.Errorf("journalled failure with a retry left: %+v", js[1])
 	}
-	if _, err := os.Stat(filepath.Join(meta, "exits")); !os.IsNotExist(err) {
-		t.Error("journal not removed after recovery")
+	if js[2].State != store.Pending || js[2].Attempts != 0 || js[2].Interrupts != 1 {
+		t.Errorf("journalled end of a stage its executor stopped: %+v", js[2])
 	}
-	if len(events) != 1 || !strings.Contains(events[0], "1 job ends kept, 1 unfinished jobs re-queued") {
+	if js[3].State != store.Pending || js[3].Interrupts != 1 {
+		t.Errorf("lost job: %+v", js[3])
+	}
+	if b, err := os.ReadFile(filepath.Join(meta, "exits")); err == nil && len(b) > 0 {
+		t.Errorf("journal not cleared after recovery: %q", b)
+	}
+	if len(events) != 1 || !strings.Contains(events[0], "3 job ends kept, 1 unfinished jobs re-queued") {
 		t.Errorf("events %q", events)
 	}
 }

@@ -11,6 +11,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/plan"
+	"github.com/sweep-cfd/sweep/internal/store"
 )
 
 // check is the outcome of one convergence check of a running job.
@@ -24,7 +25,7 @@ type check struct {
 // nextCheck is when the job's averages are next analysed (zero: never).
 func (a *active) nextCheck() time.Time {
 	es := a.stage.Settle
-	if es == nil || a.stopping || a.settled || a.checking {
+	if es == nil || a.stopping || a.job.Settled != "" || a.checking {
 		return time.Time{}
 	}
 	return a.lastCheck.Add(es.Every)
@@ -66,45 +67,56 @@ func (d *dispatcher) startChecks(now time.Time) {
 	}
 }
 
-// onCheck acts on a finished check: a converged job is stopped by the
-// recipe's chosen means and will be recorded as done.
-func (d *dispatcher) onCheck(c check) {
+// onCheck acts on a finished check: a job whose averages settled gets
+// its reason recorded (the returned job, committed before anything acts
+// on it), then is stopped by the recipe's chosen means, and will be
+// recorded as done.
+func (d *dispatcher) onCheck(c check) *store.Job {
 	a := d.running[c.token]
 	if a == nil {
-		return
+		return nil
 	}
 	a.checking = false
 	a.lastCheck = time.Now()
 	if c.err != nil || !c.stop || a.stopping {
-		return
+		return nil
 	}
 	es := a.stage.Settle
-	a.settled = true
 	a.job.Settled = "stopped early: " + c.reason
+	a.job.Stopping = store.StopSettle
 	// Give the solver the grace period to end by itself; then the usual
 	// stop (SIGTERM, SIGKILL) applies.
 	if end := time.Now().Add(d.opts.Grace); a.deadline.IsZero() || end.Before(a.deadline) {
 		a.deadline, a.graceEnd = end, true
 	}
-	d.opts.Progress.Event(fmt.Sprintf("%s %s: averages converged, stopping it (%s)", a.vs.v.Label, a.stage.Name, c.reason))
-	dir := filepath.Join(plan.Dir(d.r.Dir, a.vs.v.Label), a.stage.Dir)
-	switch es.By {
-	case "signal":
-		d.x.send(request{Op: "signal", Token: a.job.Token, Signal: es.Signal})
-	case "file":
-		if err := os.WriteFile(filepath.Join(dir, es.File), []byte("stop requested by sweep: averages converged\n"), 0o644); err != nil {
-			d.opts.Progress.Event(fmt.Sprintf("%s %s: cannot write the stop file: %v; stopping with SIGTERM", a.vs.v.Label, a.stage.Name, err))
-			d.stop(a)
-		}
-	case "command":
-		go func(argv []string, env []string) {
-			ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
-			defer cancel()
-			cmd := exec.CommandContext(ctx, argv[0], argv[1:]...)
-			cmd.Dir, cmd.Env = dir, env
-			if out, err := cmd.CombinedOutput(); err != nil {
-				d.opts.Progress.Event(fmt.Sprintf("%s %s: the stop command failed: %v: %s", a.vs.v.Label, a.stage.Name, err, strings.TrimSpace(string(out))))
+	label, stage, tok := a.vs.v.Label, a.stage.Name, a.job.Token
+	dir := filepath.Join(plan.Dir(d.r.Dir, label), a.stage.Dir)
+	env := d.startRequest(a).Env
+	d.actions = append(d.actions, func() error {
+		d.opts.Progress.Event(fmt.Sprintf("%s %s: averages converged, stopping it (%s)", label, stage, c.reason))
+		switch es.By {
+		case "signal":
+			return d.x.send(request{Op: "signal", Token: tok, Signal: es.Signal})
+		case "file":
+			if err := os.WriteFile(filepath.Join(dir, es.File), []byte("stop requested by sweep: averages converged\n"), 0o644); err != nil {
+				d.opts.Progress.Event(fmt.Sprintf("%s %s: cannot write the stop file: %v; stopping with SIGTERM", label, stage, err))
+				if a := d.running[tok]; a != nil && !a.stopping {
+					a.stopping = true
+					return d.x.send(request{Op: "stop", Token: tok, Grace: d.opts.Grace.Milliseconds()})
+				}
 			}
-		}(es.Command, d.startRequest(a).Env)
-	}
+		case "command":
+			go func(argv []string) {
+				ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
+				defer cancel()
+				cmd := exec.CommandContext(ctx, argv[0], argv[1:]...)
+				cmd.Dir, cmd.Env = dir, env
+				if out, err := cmd.CombinedOutput(); err != nil {
+					d.opts.Progress.Event(fmt.Sprintf("%s %s: the stop command failed: %v: %s", label, stage, err, strings.TrimSpace(string(out))))
+				}
+			}(es.Command)
+		}
+		return nil
+	})
+	return a.job
 }

@@ -405,7 +405,7 @@ func (sr *slurmRun) poll() error {
 		j := a.job
 		j.Ended = time.Now().UTC()
 		d.finished++
-		if ok || (a.settled && reason == "cancelled in Slurm") {
+		if ok || (a.job.Settled != "" && reason == "cancelled in Slurm") {
 			j.State, j.Reason, j.Attempts = store.Done, "", j.Attempts+1
 			changed = append(changed, j)
 			continue
@@ -421,7 +421,7 @@ func (sr *slurmRun) poll() error {
 			d.opts.Progress.Event(fmt.Sprintf("%s %s: %s; resubmitting (attempt %d of %d)", a.vs.v.Label, j.Stage, reason, j.Attempts+1, a.stage.Retries+1))
 		} else {
 			j.State, j.Reason = store.Failed, reason
-			j.Tail = tail(filepath.Join(vdir, a.stage.Name+".log"), 20)
+			j.Tail = attemptTail(filepath.Join(vdir, a.stage.Name+".log"), 20)
 			d.opts.Progress.Event(fmt.Sprintf("%s %s failed: %s", a.vs.v.Label, j.Stage, reason))
 		}
 		changed = append(changed, j)
@@ -456,7 +456,7 @@ func (sr *slurmRun) poll() error {
 // stop file on the shared filesystem, or by the recipe's command.
 func (sr *slurmRun) settleCheck(a *active, vdir string) {
 	es := a.stage.Settle
-	if es == nil || a.settled || time.Since(a.lastCheck) < es.Every {
+	if es == nil || a.job.Settled != "" || time.Since(a.lastCheck) < es.Every {
 		return
 	}
 	a.lastCheck = time.Now()
@@ -471,9 +471,13 @@ func (sr *slurmRun) settleCheck(a *active, vdir string) {
 		}
 		parts = append(parts, fmt.Sprintf("%s %s: %.6g ± %.2g (tolerance %.2g) at t = %.6g", name, res.Verdict, res.Mean, res.HalfWidth, res.Tolerance, res.EndTime))
 	}
-	a.settled = true
 	a.job.Settled = "stopped early: " + strings.Join(parts, "; ")
-	sr.d.commit([]*store.Job{a.job})
+	a.job.Stopping = store.StopSettle
+	if err := sr.d.commit([]*store.Job{a.job}); err != nil {
+		a.job.Settled, a.job.Stopping = "", ""
+		sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: cannot record that its averages settled (%v); it runs on", a.vs.v.Label, a.stage.Name, err))
+		return
+	}
 	dir := filepath.Join(vdir, a.stage.Dir)
 	var err error
 	switch es.By {
@@ -487,7 +491,7 @@ func (sr *slurmRun) settleCheck(a *active, vdir string) {
 		err = cmd.Run()
 	}
 	if err != nil {
-		sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: the early stop failed: %v", a.vs.v.Label, a.stage.Name, err))
+		sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: the settle stop failed: %v", a.vs.v.Label, a.stage.Name, err))
 		return
 	}
 	sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: averages converged, stopping it (%s)", a.vs.v.Label, a.stage.Name, strings.Join(parts, "; ")))

@@ -1,6 +1,8 @@
 package runner
 
 import (
+	"path/filepath"
+
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
@@ -16,6 +18,10 @@ type VariantStatus struct {
 	Values []recipe.Value `json:"-"`
 	Stage  string         `json:"stage,omitempty"`  // the stage running, failed or next
 	Reason string         `json:"reason,omitempty"` // why it failed or was re-queued
+	// Orphaned marks a running variant whose stage nothing watches: no
+	// run holds the study and no executor runs the stage (it ended with
+	// its machine, say); the next `sweep run` re-queues it.
+	Orphaned bool `json:"orphaned,omitempty"`
 	Jobs   []store.Job    `json:"-"`
 }
 
@@ -33,6 +39,11 @@ type Report struct {
 	Params   []string        `json:"param_names"`
 	Counts   Counts          `json:"counts"`
 	Variants []VariantStatus `json:"variants"`
+	// RunActive: a process holds the study (a run, or a plan or reset).
+	// ExecutorAlive: the study's executor runs, so its stages do even
+	// without a run attached (the next `sweep run` takes them over).
+	RunActive     bool `json:"run_active"`
+	ExecutorAlive bool `json:"executor_alive"`
 }
 
 // Status reads the study's variants and their states.
@@ -78,6 +89,8 @@ func Status(st *store.Store, name string) (*Report, error) {
 	if err != nil {
 		return nil, err
 	}
+	rep.RunActive = store.Held(st.StudyDir())
+	rep.ExecutorAlive = executorRunning(filepath.Join(st.StudyDir(), store.Dir))
 	for i := range rep.Variants {
 		vs := &rep.Variants[i]
 		ptrs := make([]*store.Job, len(vs.Jobs))
@@ -89,6 +102,13 @@ func Status(st *store.Store, name string) (*Report, error) {
 			if j.State != store.Done {
 				vs.Stage, vs.Reason = j.Stage, j.Reason
 				break
+			}
+		}
+		if vs.State == store.Running && !rep.RunActive && !rep.ExecutorAlive {
+			for _, j := range vs.Jobs {
+				if j.State == store.Running && j.SlurmID == "" {
+					vs.Orphaned = true
+				}
 			}
 		}
 		switch vs.State {

@@ -19,6 +19,13 @@ const (
 	Failed  State = "failed"
 )
 
+// Reasons for stopping a run (Job.Stopping).
+const (
+	StopInterrupt = "interrupt" // Ctrl-C or SIGTERM to the runner: re-queue
+	StopTimeout   = "timeout"   // past the stage's timeout: a failed attempt
+	StopSettle    = "settle"    // its averages settled: done
+)
+
 // Study is the study's own record.
 type Study struct {
 	ID      string    `json:"id"`
@@ -60,6 +67,11 @@ type Job struct {
 	// Settled says why the run was stopped early once its averages had
 	// converged ("" when it ran to its own end).
 	Settled string `json:"early_stop,omitempty"`
+	// Stopping is the runner's reason for stopping the current run,
+	// committed before the stop is sent: StopInterrupt, StopTimeout or
+	// StopSettle ("" while it runs on its own). An end the executor
+	// caused is judged by it, whatever the exit status.
+	Stopping string `json:"stopping,omitempty"`
 }
 
 // Key returns the job's database key: the variant's sequence number and

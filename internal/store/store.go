@@ -107,6 +107,9 @@ func (s *Store) open() (*bolt.DB, error) {
 	return db, nil
 }
 
+// StudyDir returns the study directory the database belongs to.
+func (s *Store) StudyDir() string { return filepath.Dir(filepath.Dir(s.path)) }
+
 // Close closes the database.
 func (s *Store) Close() error {
 	if s.db == nil {

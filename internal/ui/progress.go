@@ -73,6 +73,14 @@ func (p *RunProgress) Event(msg string) {
 	fmt.Fprintln(p.w, msg)
 }
 
+// Detach sends all further output to w as plain lines: the run's
+// terminal has gone (SIGHUP) and its output now goes to a log file.
+func (p *RunProgress) Detach(w io.Writer) {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	p.w, p.tty, p.bar, p.pending = w, false, nil, false
+}
+
 // Finish ends the rewritten line.
 func (p *RunProgress) Finish() {
 	p.mu.Lock()
