@@ -21,8 +21,8 @@ type VariantStatus struct {
 	// Orphaned marks a running variant whose stage nothing watches: no
 	// run holds the study and no executor runs the stage (it ended with
 	// its machine, say); the next `sweep run` re-queues it.
-	Orphaned bool `json:"orphaned,omitempty"`
-	Jobs   []store.Job    `json:"-"`
+	Orphaned bool        `json:"orphaned,omitempty"`
+	Jobs     []store.Job `json:"-"`
 }
 
 // Counts counts variants by state. Scripts read these names.
