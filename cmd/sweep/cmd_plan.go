@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -75,6 +76,9 @@ func runPlan(cmd *cobra.Command, opts planOptions, dir string) error {
 	res, err := plan.Plan(cmd.Context(), r, plan.Options{DryRun: opts.dryRun, Extra: extra, Progress: ui.NewCounter(os.Stderr, "rendering")})
 	if err != nil {
 		return err
+	}
+	if res.BackupErr != nil {
+		fmt.Fprintf(cmd.ErrOrStderr(), "warning: %v; the plan is recorded, but `sweep recover` has no fresh copy to start from\n", res.BackupErr)
 	}
 	out := cmd.OutOrStdout()
 	if opts.json {
@@ -185,6 +189,30 @@ func printPlanSummary(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool)
 		fmt.Fprintf(w, "; %d new stage jobs for existing variants", res.NewJobs)
 	}
 	fmt.Fprintln(w)
+	if res.Cloned > 0 {
+		fmt.Fprintf(w, "large files: %d copy-on-write clones of the base case's (each variant may change its own)\n", res.Cloned)
+	}
+	if res.Linked > 0 {
+		fmt.Fprintf(w, "large files: %d hard links to the base case's, which are now read-only so an edit in place fails instead of changing every variant; list a file in [case] private to give each variant its own copy\n", res.Linked)
+	}
+	if q, err := r.Objective(""); err == nil {
+		line := fmt.Sprintf("objective: %s", q.Name)
+		if q.Direction != recipe.None {
+			line += fmt.Sprintf(" (%s is better)", q.Direction)
+		} else {
+			line += " (no better = ...; ranked lowest first)"
+		}
+		var also []string
+		for _, o := range r.Quantities {
+			if o.Name != q.Name && o.Direction != recipe.None {
+				also = append(also, fmt.Sprintf("%s (%s is better)", o.Name, o.Direction))
+			}
+		}
+		if also != nil {
+			line += "; also directed: " + strings.Join(also, ", ") + "; rank, fit and plan --add use the objective unless given another quantity"
+		}
+		fmt.Fprintln(w, line)
+	}
 	if !dry && res.Added+res.NewJobs > 0 {
 		fmt.Fprintf(w, "next: sweep run %s\n", r.Dir)
 	}

@@ -42,7 +42,7 @@ func completeQuantities(cmd *cobra.Command, args []string, _ string) ([]string, 
 func addCompletion(root *cobra.Command) {
 	for _, c := range root.Commands() {
 		switch c.Name() {
-		case "demo", "plan", "run", "status", "reset", "harvest", "rank", "fit", "gci", "cancel", "report":
+		case "demo", "plan", "run", "status", "reset", "harvest", "rank", "fit", "gci", "cancel", "report", "recover":
 			c.ValidArgsFunction = completeStudyDirs
 		}
 		for _, flag := range []string{"by", "quantity"} {

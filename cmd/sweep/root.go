@@ -32,7 +32,7 @@ Exit status:
 	}
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError{err} })
 	root.AddCommand(newDemoCmd(), newNewCmd(), newPlanCmd(), newRunCmd(), newStatusCmd(), newResetCmd(),
-		newHarvestCmd(), newRankCmd(), newStatsCmd(), newFitCmd(), newGCICmd(), newReportCmd(), newCancelCmd(), newLbmCmd())
+		newHarvestCmd(), newRankCmd(), newStatsCmd(), newFitCmd(), newGCICmd(), newReportCmd(), newCancelCmd(), newRecoverCmd(), newLbmCmd())
 	addCompletion(root)
 	return root
 }

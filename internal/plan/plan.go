@@ -58,6 +58,12 @@ type Result struct {
 	Duplicates int // design points equal to an earlier point, planned once
 	Retired    int // variants planned before that the design no longer lists (kept)
 	NewJobs    int // jobs added to existing variants for stages added to the recipe
+	// BackupErr says why the database copy made after the plan failed
+	// (the plan itself is recorded); nil when the copy was made.
+	BackupErr error
+	// Large base-case files given to the new variants as copy-on-write
+	// clones, or as hard links to the read-only shared file.
+	Cloned, Linked int64
 }
 
 // Dir returns a variant's directory.
@@ -179,9 +185,10 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 		return nil, err
 	}
 	cleanTemp(vdir)
-	if err := renderAll(ctx, r, lay, fresh, opts.Progress); err != nil {
+	if err := renderAll(ctx, r, lay, study, fresh, opts.Progress); err != nil {
 		return nil, err
 	}
+	res.Cloned, res.Linked = lay.cloned.Load(), lay.linked.Load()
 	err = st.Update(func(tx *store.Tx) error {
 		if err := tx.PutStudy(study); err != nil {
 			return err
@@ -223,6 +230,9 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 		}
 		return nil, fmt.Errorf("record the plan: %w", err)
 	}
+	// A consistent copy of the database, for `sweep recover`; a plan that
+	// could not make it still stands.
+	res.BackupErr = st.Backup()
 	return res, nil
 }
 
@@ -265,7 +275,7 @@ func cleanTemp(vdir string) {
 	}
 }
 
-func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, vs []store.Variant, p Progress) error {
+func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, study store.Study, vs []store.Variant, p Progress) error {
 	if len(vs) == 0 {
 		return nil
 	}
@@ -290,7 +300,7 @@ func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, vs []store.Va
 			defer wg.Done()
 			for v := range work {
 				final := Dir(r.Dir, v.Label)
-				err := renderOne(r, lay, v, filepath.Join(tmp, v.Label), final)
+				err := renderOne(r, lay, study, v, filepath.Join(tmp, v.Label), final)
 				mu.Lock()
 				if err != nil {
 					errs = append(errs, fmt.Errorf("variant %s: %w", v.Label, err))
@@ -327,8 +337,12 @@ func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, vs []store.Va
 
 // renderOne renders a variant into dir (inside the plan's temporary
 // directory) and moves it to final.
-func renderOne(r *recipe.Recipe, lay *layout, v store.Variant, dir, final string) error {
-	if err := lay.render(dir, Data(r, v.Values)); err != nil {
+func renderOne(r *recipe.Recipe, lay *layout, study store.Study, v store.Variant, dir, final string) error {
+	err := lay.render(dir, Data(r, v.Values))
+	if err == nil {
+		err = writeIdentity(dir, study.ID, study.Params, v)
+	}
+	if err != nil {
 		os.RemoveAll(dir)
 		return err
 	}

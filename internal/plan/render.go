@@ -11,8 +11,12 @@ import (
 	"path/filepath"
 	"strings"
 	"text/template"
+	"sync"
+	"sync/atomic"
 	"text/template/parse"
 	"unicode/utf8"
+
+	"golang.org/x/sys/unix"
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
 )
@@ -21,24 +25,38 @@ import (
 type fileAction int
 
 const (
-	doLink   fileAction = iota // hard-link (copy when the filesystem refuses)
-	doCopy                     // copy
+	doShare  fileAction = iota // small: copy; large: clone, else hard-link and protect
+	doCopy                     // a private copy (listed in [case] private)
 	doRender                   // execute as a text/template
 )
+
+// SmallFile is the size up to which a base-case file that is neither
+// rendered nor private is copied into each variant rather than shared:
+// copying small files costs little disk, and a solver that rewrites a
+// small settings file in place then changes only its own variant.
+const SmallFile = 64 << 10
 
 // entry is one item of the template tree.
 type entry struct {
 	rel    string // slash-separated path relative to the template
 	mode   fs.FileMode
+	size   int64
 	action fileAction
 	tmpl   *template.Template
 	target string // symlink target
+	// protect makes a hard-linked file read-only once: the base case and
+	// every variant share its inode, so an in-place edit would change
+	// them all; read-only, the edit fails loudly instead.
+	protect *sync.Once
 }
 
 // layout is the template tree, read and checked once per plan.
 type layout struct {
 	root    string
 	entries []entry
+	// How the large files were shared in this plan: copy-on-write
+	// clones, or hard links made read-only (counted per variant file).
+	cloned, linked atomic.Int64
 }
 
 // matches reports whether a slash-separated relative path matches a
@@ -69,11 +87,15 @@ func readLayout(r *recipe.Recipe) (*layout, error) {
 			return nil
 		}
 		rel = filepath.ToSlash(rel)
+		if rel == IdentityFile {
+			problems = append(problems, fmt.Sprintf("%s: the base case holds a file named %s, which the program writes into every variant; rename or remove it", path, IdentityFile))
+			return nil
+		}
 		info, err := d.Info()
 		if err != nil {
 			return err
 		}
-		e := entry{rel: rel, mode: info.Mode()}
+		e := entry{rel: rel, mode: info.Mode(), size: info.Size(), protect: new(sync.Once)}
 		switch {
 		case d.IsDir():
 		case info.Mode()&fs.ModeSymlink != 0:
@@ -264,15 +286,64 @@ func (lay *layout) render(dir string, data map[string]any) error {
 			if err := copyFile(src, dst, e.mode.Perm()); err != nil {
 				return err
 			}
+		case e.size <= SmallFile:
+			if err := copyFile(src, dst, e.mode.Perm()); err != nil {
+				return err
+			}
 		default:
-			if err := os.Link(src, dst); err != nil {
-				if err := copyFile(src, dst, e.mode.Perm()); err != nil {
-					return err
-				}
+			if err := lay.share(e, src, dst); err != nil {
+				return err
 			}
 		}
 	}
 	return nil
+}
+
+// share gives a variant a large base-case file without copying its data:
+// a copy-on-write clone where the filesystem makes one (each variant may
+// then change its file freely), otherwise a hard link, with the shared
+// file made read-only so an in-place edit fails instead of changing the
+// base case and every variant; a copy where even a link is refused.
+func (lay *layout) share(e entry, src, dst string) error {
+	ok, err := cloneFile(src, dst, e.mode.Perm())
+	if err != nil {
+		return err
+	}
+	if ok {
+		lay.cloned.Add(1)
+		return nil
+	}
+	e.protect.Do(func() {
+		if e.mode.Perm()&0o222 != 0 {
+			os.Chmod(src, e.mode.Perm()&^0o222)
+		}
+	})
+	if err := os.Link(src, dst); err != nil {
+		return copyFile(src, dst, e.mode.Perm())
+	}
+	lay.linked.Add(1)
+	return nil
+}
+
+// cloneFile makes dst a copy-on-write clone of src (the FICLONE ioctl;
+// btrfs, XFS with reflink, and others). It reports false, leaving no
+// file, where the filesystem cannot clone.
+func cloneFile(src, dst string, perm fs.FileMode) (bool, error) {
+	in, err := os.Open(src)
+	if err != nil {
+		return false, err
+	}
+	defer in.Close()
+	out, err := os.OpenFile(dst, os.O_WRONLY|os.O_CREATE|os.O_EXCL, perm)
+	if err != nil {
+		return false, err
+	}
+	if err := unix.IoctlFileClone(int(out.Fd()), int(in.Fd())); err != nil {
+		out.Close()
+		os.Remove(dst)
+		return false, nil
+	}
+	return true, out.Close()
 }
 
 func copyFile(src, dst string, perm fs.FileMode) error {

@@ -345,7 +345,11 @@ func (x *executor) wait(p *proc, logf *os.File) {
 	ev.Stopped = p.stopped
 	delete(x.procs, p.token)
 	x.mu.Unlock()
-	fmt.Fprintf(logf, "=== sweep: ended %s: %s, token %s ===\n", time.Now().Format(time.DateTime), ev.outcome(), p.token)
+	stopped := ""
+	if ev.Stopped {
+		stopped = ", stopped by sweep"
+	}
+	fmt.Fprintf(logf, "=== sweep: ended %s: %s%s, token %s ===\n", time.Now().Format(logStamp), ev.outcome(), stopped, p.token)
 	logf.Close()
 	close(p.done)
 	x.ended(ev)

@@ -83,6 +83,7 @@ func Run(ctx context.Context, r *recipe.Recipe, opts Options) (*Snapshot, error)
 	d.adopt(adopted)
 	runErr := d.loop(ctx)
 	x.close()
+	d.backup()
 	snap := d.snapshot()
 	opts.Progress.Update(snap)
 	if runErr == nil && ctx.Err() != nil {
@@ -121,6 +122,8 @@ type dispatcher struct {
 	// actions are sent to the executor (or run) after the next commit:
 	// each acts on an intent that must be in the database first.
 	actions []func() error
+
+	lastBackup time.Time
 
 	finished  int           // jobs ended this run
 	busy      time.Duration // summed run time of jobs ended this run
@@ -188,6 +191,9 @@ func (d *dispatcher) loop(ctx context.Context) error {
 				return d.abort(err)
 			}
 			dirty = dirty[:0]
+			if time.Since(d.lastBackup) > backupEvery {
+				d.backup()
+			}
 		}
 		for _, t := range acks {
 			if err := d.x.send(request{Op: "ack", Token: t}); err != nil {
@@ -310,6 +316,18 @@ func (d *dispatcher) commit(jobs []*store.Job) error {
 	})
 }
 
+// backupEvery is how often a run refreshes the copy of the study
+// database that `sweep recover` starts from.
+const backupEvery = 10 * time.Minute
+
+// backup refreshes the database copy; a failure is reported, not fatal.
+func (d *dispatcher) backup() {
+	d.lastBackup = time.Now()
+	if err := d.st.Backup(); err != nil {
+		d.opts.Progress.Event(fmt.Sprintf("warning: %v", err))
+	}
+}
+
 // abort gives up after a failed commit. Jobs claimed in the failed commit
 // were never started, so the database (which still says pending) is
 // right. Running jobs are left to the executor: the next run takes them
@@ -372,7 +390,7 @@ func (d *dispatcher) startRequest(a *active) request {
 	env := append(os.Environ(), d.r.Env(a.vs.v.Values, a.vs.v.ID, a.vs.v.Label, vdir, a.stage)...)
 	env = append(env, recipe.EnvPrefix+"BIN="+d.exe)
 	header := fmt.Sprintf("=== sweep: stage %s of %s, attempt %d, started %s, token %s ===\n",
-		a.stage.Name, a.vs.v.Label, a.job.Attempts+1, a.job.Started.Local().Format(time.DateTime), a.job.Token)
+		a.stage.Name, a.vs.v.Label, a.job.Attempts+1, a.job.Started.Local().Format(logStamp), a.job.Token)
 	argv := a.stage.Argv
 	if a.stage.ContinueArgv != nil && (a.job.Attempts > 0 || a.job.Interrupts > 0) {
 		argv = a.stage.ContinueArgv

@@ -92,8 +92,13 @@ func (d *dispatcher) onCheck(c check) *store.Job {
 	label, stage, tok := a.vs.v.Label, a.stage.Name, a.job.Token
 	dir := filepath.Join(plan.Dir(d.r.Dir, label), a.stage.Dir)
 	env := d.startRequest(a).Env
+	logPath := d.logPath(a)
 	d.actions = append(d.actions, func() error {
 		d.opts.Progress.Event(fmt.Sprintf("%s %s: averages converged, stopping it (%s)", label, stage, c.reason))
+		if lf, err := os.OpenFile(logPath, os.O_WRONLY|os.O_APPEND, 0); err == nil {
+			fmt.Fprintf(lf, "=== sweep: averages settled at %s (%s); asking the solver to stop ===\n", time.Now().Format(logStamp), c.reason)
+			lf.Close()
+		}
 		switch es.By {
 		case "signal":
 			return d.x.send(request{Op: "signal", Token: tok, Signal: es.Signal})

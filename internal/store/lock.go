@@ -31,12 +31,12 @@ type Lock struct{ f *os.File }
 // .sweep/lock, so it is released by the kernel when its holder dies, even
 // by SIGKILL.
 func Acquire(studyDir, command string) (*Lock, error) {
-	dir := filepath.Join(studyDir, Dir)
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := MakeDir(studyDir); err != nil {
 		return nil, err
 	}
-	path := filepath.Join(dir, "lock")
-	f, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE, 0o644)
+	path := filepath.Join(studyDir, Dir, "lock")
+	private(path)
+	f, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE, 0o600)
 	if err != nil {
 		return nil, fmt.Errorf("open lock: %w", err)
 	}

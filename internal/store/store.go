@@ -59,21 +59,24 @@ func Open(studyDir string, opts Options) (*Store, error) {
 	if opts.Timeout == 0 {
 		opts.Timeout = 10 * time.Second
 	}
-	if err := os.MkdirAll(filepath.Join(studyDir, Dir), 0o755); err != nil {
-		return nil, fmt.Errorf("create %s: %w", Dir, err)
+	if err := MakeDir(studyDir); err != nil {
+		return nil, err
 	}
 	s := &Store{path: Path(studyDir), opts: opts}
+	private(s.path)
 	db, err := s.open()
 	if err != nil {
 		return nil, err
 	}
-	err = db.Update(func(tx *bolt.Tx) error {
-		for _, b := range [][]byte{bucketMeta, bucketVariants, bucketJobs, bucketKeys, bucketResults} {
-			if _, err := tx.CreateBucketIfNotExists(b); err != nil {
-				return err
+	err = guard(s.path, func() error {
+		return db.Update(func(tx *bolt.Tx) error {
+			for _, b := range [][]byte{bucketMeta, bucketVariants, bucketJobs, bucketKeys, bucketResults} {
+				if _, err := tx.CreateBucketIfNotExists(b); err != nil {
+					return err
+				}
 			}
-		}
-		return nil
+			return nil
+		})
 	})
 	if err != nil {
 		db.Close()
@@ -96,11 +99,39 @@ func OpenExisting(studyDir string, opts Options) (*Store, error) {
 	return Open(studyDir, opts)
 }
 
+// MakeDir creates the study's .sweep directory, private to its owner
+// (0700: it holds the database, the logs of the runs and the executor's
+// socket), and makes an existing one private.
+func MakeDir(studyDir string) error {
+	dir := filepath.Join(studyDir, Dir)
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return fmt.Errorf("create %s: %w", dir, err)
+	}
+	if st, err := os.Stat(dir); err == nil && st.Mode().Perm() != 0o700 {
+		os.Chmod(dir, 0o700)
+	}
+	return nil
+}
+
 func (s *Store) open() (*bolt.DB, error) {
-	db, err := bolt.Open(s.path, 0o644, &bolt.Options{Timeout: s.opts.Timeout})
+	if err := checkFile(s.path); err != nil {
+		return nil, err
+	}
+	var db *bolt.DB
+	err := guard(s.path, func() error {
+		var err error
+		db, err = bolt.Open(s.path, 0o600, &bolt.Options{Timeout: s.opts.Timeout})
+		return err
+	})
 	if err != nil {
-		if errors.Is(err, bolt.ErrTimeout) {
+		var de *DamagedError
+		switch {
+		case errors.As(err, &de):
+			return nil, err
+		case errors.Is(err, bolt.ErrTimeout):
 			return nil, fmt.Errorf("open %s: another process kept the database busy for %s; try again", s.path, s.opts.Timeout)
+		case errors.Is(err, bolt.ErrInvalid), errors.Is(err, bolt.ErrChecksum), errors.Is(err, bolt.ErrVersionMismatch):
+			return nil, damaged(s.path, err.Error())
 		}
 		return nil, fmt.Errorf("open %s: %w", s.path, err)
 	}
@@ -137,17 +168,78 @@ func (s *Store) View(fn func(*Tx) error) error {
 
 func (s *Store) with(fn func(*bolt.DB) error) error {
 	if s.db != nil {
-		return fn(s.db)
+		return guard(s.path, func() error { return fn(s.db) })
 	}
 	db, err := s.open()
 	if err != nil {
 		return err
 	}
-	err = fn(db)
+	err = guard(s.path, func() error { return fn(db) })
 	if cerr := db.Close(); err == nil {
 		err = cerr
 	}
 	return err
+}
+
+// BackupPath returns where a study's database copy is kept.
+func BackupPath(studyDir string) string { return Path(studyDir) + ".bak" }
+
+// BackupTime returns when the study's database copy was made.
+func BackupTime(studyDir string) (time.Time, bool) {
+	st, err := os.Stat(BackupPath(studyDir))
+	if err != nil {
+		return time.Time{}, false
+	}
+	return st.ModTime(), true
+}
+
+// Backup writes a consistent copy of the database (from one read
+// transaction) to BackupPath, atomically: a temporary file, synced, then
+// renamed over the old copy, and the directory synced.
+func (s *Store) Backup() error {
+	dst := s.path + ".bak"
+	tmp, err := os.CreateTemp(filepath.Dir(s.path), ".backup-*")
+	if err != nil {
+		return fmt.Errorf("back up the study database: %w", err)
+	}
+	defer os.Remove(tmp.Name())
+	err = s.View(func(tx *Tx) error {
+		_, err := tx.tx.WriteTo(tmp)
+		return err
+	})
+	if err == nil {
+		err = tmp.Sync()
+	}
+	if cerr := tmp.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp.Name(), dst)
+	}
+	if err == nil {
+		err = syncDir(filepath.Dir(s.path))
+	}
+	if err != nil {
+		return fmt.Errorf("back up the study database: %w", err)
+	}
+	return nil
+}
+
+// private makes an existing file readable by its owner only (files of
+// studies made before the program kept them private).
+func private(path string) {
+	if st, err := os.Stat(path); err == nil && st.Mode().Perm()&0o077 != 0 {
+		os.Chmod(path, st.Mode().Perm()&0o700)
+	}
+}
+
+func syncDir(dir string) error {
+	d, err := os.Open(dir)
+	if err != nil {
+		return err
+	}
+	defer d.Close()
+	return d.Sync()
 }
 
 // Tx is a transaction on a study database. The read methods Study,

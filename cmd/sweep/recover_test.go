@@ -1,0 +1,125 @@
+package main
+
+import (
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// smallStudy writes and plans a study of n variants with two scripted
+// stages, and returns its directory.
+func smallStudy(t *testing.T, n int) string {
+	t.Helper()
+	dir := filepath.Join(t.TempDir(), "study")
+	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	levels := make([]string, n)
+	for i := range levels {
+		levels[i] = strconv.Itoa(i + 1)
+	}
+	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+base = "template"
+render = ["case.txt"]
+[[param]]
+name = "k"
+levels = [`+strings.Join(levels, ", ")+`]
+[design]
+scheme = "factorial"
+[[stage]]
+name = "mesh"
+run = "sh -c 'echo mesh > mesh.out'"
+[[stage]]
+name = "solve"
+run = "sh -c 'echo solve >> ../../solve-count'"
+`, 0o644)
+	if _, errs, code := sweep(t, "plan", dir); code != 0 {
+		t.Fatalf("plan: %s", errs)
+	}
+	return dir
+}
+
+// noCrash fails the test if a command's output shows a Go crash.
+func noCrash(t *testing.T, what, errs string) {
+	t.Helper()
+	for _, sign := range []string{"panic:", "fatal error:", "goroutine ", "SIGBUS", "SIGSEGV"} {
+		if strings.Contains(errs, sign) {
+			t.Fatalf("%s crashed: %s", what, errs)
+		}
+	}
+}
+
+// Ensure that a damaged database is reported clearly by every command
+// (no crash), that `recover` rebuilds it from the copy the run left,
+// that without the copy it rebuilds from the variant directories and
+// their logs, and that no finished stage runs again afterwards.
+func TestRecoverDamagedDatabase(t *testing.T) {
+	dir := smallStudy(t, 6)
+	if _, errs, code := sweep(t, "run", dir, "-q"); code != 0 {
+		t.Fatalf("run: %s", errs)
+	}
+	db := filepath.Join(dir, ".sweep", "study.db")
+	for _, damage := range []string{"emptied", "truncated"} {
+		t.Run(damage, func(t *testing.T) {
+			switch damage {
+			case "emptied":
+				os.Truncate(db, 0)
+			case "truncated":
+				os.Truncate(db, 4096*2+100)
+			}
+			for _, args := range [][]string{{"status", dir}, {"run", dir}, {"plan", dir}, {"harvest", dir}, {"rank", dir}, {"report", dir}, {"reset", dir, "--failed"}} {
+				_, errs, code := sweep(t, args...)
+				noCrash(t, args[0], errs)
+				if code == 0 || !strings.Contains(errs, "the study database is damaged") || !strings.Contains(errs, "sweep recover") {
+					t.Errorf("%s on a damaged database: exit %d, %q", args[0], code, errs)
+				}
+			}
+			out, errs, code := sweep(t, "recover", dir)
+			if code != 0 {
+				t.Fatalf("recover: %d %s", code, errs)
+			}
+			if !strings.Contains(out, "rebuilt from the copy of ") || !strings.Contains(out, "6 variants") || !strings.Contains(out, "stage jobs: 12 done") {
+				t.Errorf("recover said:\n%s", out)
+			}
+			if s := status(t, dir); s.Counts.Done != 6 {
+				t.Errorf("after recover: %+v", s.Counts)
+			}
+		})
+	}
+	t.Run("no copy", func(t *testing.T) {
+		os.Truncate(db, 0)
+		os.Remove(db + ".bak")
+		out, errs, code := sweep(t, "recover", dir, "--json")
+		if code != 0 {
+			t.Fatalf("recover: %d %s", code, errs)
+		}
+		var res struct {
+			Source   string `json:"Source"`
+			Variants int    `json:"Variants"`
+			Done     int    `json:"Done"`
+			Pending  int    `json:"Pending"`
+		}
+		if err := json.Unmarshal([]byte(out), &res); err != nil {
+			t.Fatal(err)
+		}
+		if res.Source != "the variant directories" || res.Variants != 6 || res.Done != 12 || res.Pending != 0 {
+			t.Errorf("rebuilt from the directories: %+v", res)
+		}
+		if out, _, _ := sweep(t, "recover", dir); !strings.Contains(out, "sound (6 variants, 12 stage jobs)") {
+			t.Errorf("second recover: %s", out)
+		}
+	})
+	// Nothing ran twice through all of this.
+	if _, errs, code := sweep(t, "run", dir, "-q"); code != 0 {
+		t.Fatalf("run after recovery: %s", errs)
+	}
+	b, _ := os.ReadFile(filepath.Join(dir, "solve-count"))
+	if n := strings.Count(string(b), "solve"); n != 6 {
+		t.Errorf("the solve stage ran %d times in all, want 6", n)
+	}
+	damagedCopies, _ := filepath.Glob(db + ".damaged-*")
+	if len(damagedCopies) != 3 {
+		t.Errorf("kept aside %v; want each of the three damaged files", damagedCopies)
+	}
+}
