@@ -7,7 +7,12 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
+
+	"github.com/sweep-cfd/sweep/internal/store"
 )
+
+func storeHeld(dir string) bool { return store.Held(dir) }
 
 // smallStudy writes and plans a study of n variants with two scripted
 // stages, and returns its directory.
@@ -121,5 +126,72 @@ func TestRecoverDamagedDatabase(t *testing.T) {
 	damagedCopies, _ := filepath.Glob(db + ".damaged-*")
 	if len(damagedCopies) != 3 {
 		t.Errorf("kept aside %v; want each of the three damaged files", damagedCopies)
+	}
+}
+
+// Ensure that `run --detach` on the local backend starts the run in the
+// background and returns at once, that the run finishes there with its
+// output in .sweep/run.log, and that `cancel` stops a background run as
+// Ctrl-C would: its running stages are re-queued, and a later run
+// finishes them.
+func TestDetachedLocalRun(t *testing.T) {
+	if testing.Short() {
+		t.Skip("starts background runs")
+	}
+	dir := filepath.Join(t.TempDir(), "study")
+	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+base = "template"
+render = ["case.txt"]
+[[param]]
+name = "k"
+levels = [1, 2, 3, 4]
+[design]
+scheme = "factorial"
+[[stage]]
+name = "solve"
+run = "sh -c 'sleep 0.6; echo $SWEEP_VARIANT_LABEL >> ../../done'"
+`, 0o644)
+	if _, errs, code := sweep(t, "plan", dir); code != 0 {
+		t.Fatalf("plan: %s", errs)
+	}
+	start := time.Now()
+	out, errs, code := sweep(t, "run", dir, "--detach", "--cores", "2")
+	if code != 0 || !strings.Contains(out, "the run goes on in the background (pid ") || !strings.Contains(out, "sweep cancel "+dir) {
+		t.Fatalf("run --detach: exit %d, %q, %q", code, out, errs)
+	}
+	if el := time.Since(start); el > 3*time.Second {
+		t.Errorf("run --detach took %s to return", el)
+	}
+	if _, errs, code := sweep(t, "run", dir, "--detach"); code == 0 || !strings.Contains(errs, "study is in use") {
+		t.Errorf("a second detached run: exit %d, %q", code, errs)
+	}
+	out, errs, code = sweep(t, "cancel", dir)
+	if code != 0 || !strings.Contains(out, "asked the run (pid") || !strings.Contains(out, "the run has ended") {
+		t.Fatalf("cancel: exit %d, %q, %q", code, out, errs)
+	}
+	s := status(t, dir)
+	if s.Counts.Running != 0 || s.Counts.Done == 4 {
+		t.Errorf("after cancel: %+v", s.Counts)
+	}
+	log, _ := os.ReadFile(filepath.Join(dir, ".sweep", "run.log"))
+	if !strings.Contains(string(log), "started in the background") {
+		t.Errorf("run.log:\n%s", log)
+	}
+	if _, errs, code := sweep(t, "run", dir, "--detach"); code != 0 {
+		t.Fatalf("second detached run: %s", errs)
+	}
+	for range 100 {
+		if !storeHeld(dir) {
+			break
+		}
+		time.Sleep(100 * time.Millisecond)
+	}
+	if s := status(t, dir); s.Counts.Done != 4 {
+		t.Errorf("the background run did not finish the study: %+v\n%s", s.Counts, log)
+	}
+	b, _ := os.ReadFile(filepath.Join(dir, "done"))
+	if n := strings.Count(string(b), "v0"); n != 4 {
+		t.Errorf("%d stage ends for 4 variants, want 4 (the cancelled runs were stopped before their end)", n)
 	}
 }
