@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
+	"runtime"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -194,6 +196,14 @@ func printPlanSummary(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool)
 	}
 	if res.Linked > 0 {
 		fmt.Fprintf(w, "large files: %d hard links to the base case's, which are now read-only so an edit in place fails instead of changing every variant; list a file in [case] private to give each variant its own copy\n", res.Linked)
+	}
+	if r.Backend.Kind == "local" {
+		for _, st := range r.Stages {
+			if st.Cores > runtime.NumCPU() {
+				fmt.Fprintf(w, "warning: %s:%d: stage %q asks for %d cores and this machine has %d: `sweep run` here can start it only with --cores %d (more jobs than cores); run it on a cluster ([backend] kind = \"slurm\") or lower its cores\n",
+					filepath.Base(r.File), st.Line, st.Name, st.Cores, runtime.NumCPU(), st.Cores)
+			}
+		}
 	}
 	if q, err := r.Objective(""); err == nil {
 		line := fmt.Sprintf("objective: %s", q.Name)

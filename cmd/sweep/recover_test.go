@@ -195,3 +195,44 @@ run = "sh -c 'sleep 0.6; echo $SWEEP_VARIANT_LABEL >> ../../done'"
 		t.Errorf("%d stage ends for 4 variants, want 4 (the cancelled runs were stopped before their end)", n)
 	}
 }
+
+// Ensure that planning says when a stage can never start on this machine
+// (more cores than it has) and which quantity is the objective when
+// several say which values are better.
+func TestPlanWarnsCoresAndObjective(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "study")
+	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+base = "template"
+render = ["case.txt"]
+[[param]]
+name = "k"
+levels = [1, 2]
+[design]
+scheme = "factorial"
+[[quantity]]
+name = "drag"
+files = "f.dat"
+value = 2
+better = "lower"
+[[quantity]]
+name = "downforce"
+files = "f.dat"
+value = 3
+better = "higher"
+[[stage]]
+name = "solve"
+cores = 4096
+run = "true"
+`, 0o644)
+	out, errs, code := sweep(t, "plan", dir, "--dry-run")
+	if code != 0 {
+		t.Fatalf("plan: %s", errs)
+	}
+	for _, want := range []string{`warning: study.toml:19: stage "solve" asks for 4096 cores and this machine has`,
+		"objective: drag (lower is better); also directed: downforce (higher is better)"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("plan does not say %q:\n%s", want, out)
+		}
+	}
+}
