@@ -71,6 +71,12 @@ func RandomLatinHypercube(n, k int, seed uint64, jitter bool) [][]float64 {
 // The points sit at cell centres (i + ½)/n unless opts.Jitter is set; each
 // of the n equal intervals of every coordinate holds exactly one point.
 //
+// Cost. The search keeps the n×n matrices of squared distances and terms
+// (16·n² bytes: 64 MB for n = 2000) and, with the default OuterIterations,
+// at least 50 outer iterations of about 10^4·n term updates each, so its
+// time also grows as n² (about 45 s for n = 2000 on one core). Callers
+// bound n; a study's recipe allows at most 2000 points.
+//
 // It panics if n < 1, k < 1, opts.P < 0 or opts.OuterIterations < 0.
 func LatinHypercube(n, k int, opts LatinHypercubeOptions) (pts [][]float64, minDist float64) {
 	checkSize(n, k)

@@ -133,3 +133,40 @@ func TestTableNorris(t *testing.T) {
 		t.Errorf("bad cell: %v", err)
 	}
 }
+
+// Ensure that a malformed table is refused with its file, line, what is
+// wrong and what to do, word for word, and never crashes the reader.
+func TestTableBad(t *testing.T) {
+	dir := t.TempDir()
+	cases := []struct{ name, text, want string }{
+		{"bad quote in the first cell", "x,y\n\"3\"x,4\n",
+			`bad.csv:2: not valid CSV at column 3: extraneous or missing " in quoted-field: put a cell that holds a comma or a quote in double quotes, each inner quote doubled`},
+		{"bad quote in the header", "x,\"y\"z\n1,2\n",
+			`bad.csv:1: not valid CSV at column 5: extraneous or missing " in quoted-field: put a cell that holds a comma or a quote in double quotes, each inner quote doubled`},
+		{"short row", "x,y\n1,2\n3\n",
+			`bad.csv:3: the row has 1 cell and the header 2: give every row one cell per header column`},
+		{"long row", "# runs\nx,y\n1,2,3\n",
+			`bad.csv:3: the row has 3 cells and the header 2: give every row one cell per header column`},
+		{"twice the response", "y,x,y\n1,2,3\n",
+			`bad.csv:1: column "y" appears twice in the header: keep one`},
+		{"empty", "# nothing\n",
+			`bad.csv: the table is empty: write a header row naming the columns, then one row per run`},
+		{"not finite", "x,y\n1,2\nnan,3\n",
+			`bad.csv:3: "nan" (column x) is not a finite number`},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			path := filepath.Join(dir, "bad.csv")
+			if err := os.WriteFile(path, []byte(c.text), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			_, err := TableData(path, "y")
+			if err == nil {
+				t.Fatal("accepted a bad table")
+			}
+			if got := strings.TrimPrefix(err.Error(), dir+string(filepath.Separator)); got != c.want {
+				t.Errorf("got\n %s\nwant\n %s", got, c.want)
+			}
+		})
+	}
+}

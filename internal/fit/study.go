@@ -97,15 +97,26 @@ func TableData(path, response string) (surface.Data, error) {
 	cr.Comment = '#'
 	cr.TrimLeadingSpace = true
 	head, err := cr.Read()
+	if errors.Is(err, io.EOF) {
+		return d, fmt.Errorf("%s: the table is empty: write a header row naming the columns, then one row per run", path)
+	}
 	if err != nil {
-		return d, fmt.Errorf("%s: no header row: %v", path, err)
+		return d, tableError(path, err, len(head), 0)
 	}
 	resp := -1
+	seen := map[string]bool{}
 	for i, h := range head {
-		if strings.TrimSpace(h) == response {
+		h = strings.TrimSpace(h)
+		head[i] = h
+		if seen[h] {
+			line, _ := cr.FieldPos(i)
+			return d, fmt.Errorf("%s:%d: column %q appears twice in the header: keep one", path, line, h)
+		}
+		seen[h] = true
+		if h == response {
 			resp = i
 		} else {
-			d.Names = append(d.Names, strings.TrimSpace(h))
+			d.Names = append(d.Names, h)
 		}
 	}
 	if resp < 0 {
@@ -119,10 +130,12 @@ func TableData(path, response string) (surface.Data, error) {
 		if errors.Is(err, io.EOF) {
 			break
 		}
-		line, _ := cr.FieldPos(0)
 		if err != nil {
-			return d, fmt.Errorf("%s:%d: %v", path, line, err)
+			// The reader's position is only defined for a record it
+			// returned without error: the line comes from the error.
+			return d, tableError(path, err, len(rec), len(head))
 		}
+		line, _ := cr.FieldPos(0)
 		var x []float64
 		var y float64
 		for i, cell := range rec {
@@ -146,10 +159,35 @@ func TableData(path, response string) (surface.Data, error) {
 		for _, x := range d.X {
 			lo, hi = math.Min(lo, x[j]), math.Max(hi, x[j])
 		}
-		if !(hi > lo) {
-			hi = lo + math.Max(1, math.Abs(lo))*1e-9 // a constant column
+		if !(hi > lo) { // a constant column: give it a width
+			w := math.Max(1, math.Abs(lo)) * 1e-9
+			if hi = lo + w; math.IsInf(hi, 0) {
+				lo, hi = lo-w, lo // at the largest float, widen downwards
+			}
 		}
 		d.Bounds.Lo, d.Bounds.Hi = append(d.Bounds.Lo, lo), append(d.Bounds.Hi, hi)
 	}
 	return d, nil
+}
+
+// tableError locates an error of the CSV reader in the table: cells is the
+// number of cells it returned with the error, width the header's (0 while
+// reading the header itself).
+func tableError(path string, err error, cells, width int) error {
+	var pe *csv.ParseError
+	if !errors.As(err, &pe) {
+		return fmt.Errorf("%s: %v", path, err)
+	}
+	if errors.Is(pe.Err, csv.ErrFieldCount) {
+		return fmt.Errorf("%s:%d: the row has %s and the header %d: give every row one cell per header column", path, pe.Line, plural(cells, "cell"), width)
+	}
+	return fmt.Errorf("%s:%d: not valid CSV at column %d: %v: put a cell that holds a comma or a quote in double quotes, each inner quote doubled", path, pe.Line, pe.Column, pe.Err)
+}
+
+// plural writes n and a noun, with an s unless n is 1.
+func plural(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return fmt.Sprintf("%d %ss", n, noun)
 }

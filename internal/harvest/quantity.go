@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 )
 
 // Quantity describes where one force or coefficient history lives in a
@@ -56,16 +57,23 @@ func ColumnIndex(i int) Column { return Column{Index: i} }
 func ColumnName(s string) Column { return Column{Name: s} }
 
 // ParseColumn reads a column as written in a recipe: a positive integer is
-// an index, anything else a header name.
+// an index, anything else a header name. A name must be UTF-8 text, as
+// recipes and the study's stored results are.
 func ParseColumn(s string) (Column, error) {
 	s = strings.TrimSpace(s)
 	if s == "" {
 		return Column{}, errors.New("empty column")
 	}
-	if i, err := strconv.Atoi(s); err == nil {
-		if i < 1 {
-			return Column{}, fmt.Errorf("column index %d: indices start at 1", i)
-		}
+	if !utf8.ValidString(s) {
+		return Column{}, fmt.Errorf("column name %q is not valid UTF-8 text", s)
+	}
+	i, err := strconv.Atoi(s)
+	switch {
+	case errors.Is(err, strconv.ErrRange) || (err == nil && i > math.MaxInt32):
+		return Column{}, fmt.Errorf("column index %s is too large: count the columns from 1", s)
+	case err == nil && i < 1:
+		return Column{}, fmt.Errorf("column index %d: indices start at 1", i)
+	case err == nil:
 		return Column{Index: i}, nil
 	}
 	return Column{Name: s}, nil
@@ -86,8 +94,11 @@ func (c Column) String() string {
 func (c *Column) UnmarshalTOML(v any) error {
 	switch x := v.(type) {
 	case int64:
-		if x < 1 || x > math.MaxInt32 {
+		if x < 1 {
 			return fmt.Errorf("column index %d: indices start at 1", x)
+		}
+		if x > math.MaxInt32 {
+			return fmt.Errorf("column index %d is too large: count the columns from 1", x)
 		}
 		*c = Column{Index: int(x)}
 		return nil
@@ -126,7 +137,8 @@ func (c *Column) UnmarshalJSON(b []byte) error {
 }
 
 // Term is one summand of a value: Factor times a column. A zero Factor is
-// read as 1 (a term that is always zero would be a recipe mistake).
+// read as 1 (a term that is always zero would be a recipe mistake, so
+// UnmarshalTOML refuses a factor written as 0).
 type Term struct {
 	Column Column  `json:"column" toml:"column"`
 	Factor float64 `json:"factor,omitempty" toml:"factor"`
@@ -163,6 +175,9 @@ func (t *Term) UnmarshalTOML(v any) error {
 				t.Factor = float64(f)
 			default:
 				return fmt.Errorf("factor: need a number, got %T", x)
+			}
+			if t.Factor == 0 {
+				return errors.New("factor 0 would make the term always zero: remove the term, or give a factor other than 0")
 			}
 		default:
 			return fmt.Errorf("value term: unknown key %q (want column, factor)", k)

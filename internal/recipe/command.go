@@ -77,42 +77,61 @@ func SplitCommand(s string) ([]string, error) {
 	return args, nil
 }
 
-// CheckCommands verifies that every stage's program can be found: a
-// program named with a slash must exist in the base case (relative to
-// the stage's directory) or on disk; a bare name must be on PATH. It
-// returns the located problems, or nil.
+// CheckCommands verifies that every stage's programs can be found, the
+// one of run and the one of continue alike: a program named with a slash
+// must exist in the base case (relative to the stage's directory) or on
+// disk; a bare name must be on PATH. It returns the located problems, or
+// nil.
 func (r *Recipe) CheckCommands() error {
 	pr := &problems{file: filepath.Base(r.File)}
 	for _, s := range r.Stages {
-		prog := s.Argv[0]
-		if prog == SelfProgram && !s.Shell {
-			continue
+		r.checkProgram(pr, s, "run", s.Argv, s.Line)
+		line := s.ContinueLine
+		if line == 0 {
+			line = s.Line
 		}
-		if strings.ContainsRune(prog, '/') {
-			p := prog
-			if !filepath.IsAbs(p) {
-				p = filepath.Join(r.Base, s.Dir, p)
-			}
-			st, err := os.Stat(p)
-			switch {
-			case err != nil:
-				pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
-					Msg: fmt.Sprintf("stage %q: program %q not found (looked for %s); add it to the base case or correct run", s.Name, prog, p)})
-			case st.IsDir() || st.Mode()&0o111 == 0:
-				pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
-					Msg: fmt.Sprintf("stage %q: %s is not an executable file; chmod +x it, or run it through its interpreter (for example run = \"sh %s\")", s.Name, p, prog)})
-			}
-			continue
-		}
-		if _, err := exec.LookPath(prog); err != nil {
-			pr.list = append(pr.list, &Error{File: pr.file, Line: s.Line,
-				Msg: fmt.Sprintf("stage %q: program %q is not on PATH; install it, or give its path", s.Name, prog)})
-		}
+		r.checkProgram(pr, s, "continue", s.ContinueArgv, line)
 	}
 	if len(pr.list) > 0 {
 		return pr.list
 	}
 	return nil
+}
+
+// checkProgram checks the program of one command of stage s; key names
+// the command's recipe key in the messages ("run" or "continue").
+func (r *Recipe) checkProgram(pr *problems, s Stage, key string, argv []string, line int) {
+	if len(argv) == 0 {
+		return
+	}
+	prog := argv[0]
+	if prog == SelfProgram && !s.Shell {
+		return
+	}
+	what := fmt.Sprintf("stage %q", s.Name)
+	if key != "run" {
+		what += ": " + key
+	}
+	if strings.ContainsRune(prog, '/') {
+		p := prog
+		if !filepath.IsAbs(p) {
+			p = filepath.Join(r.Base, s.Dir, p)
+		}
+		st, err := os.Stat(p)
+		switch {
+		case err != nil:
+			pr.list = append(pr.list, &Error{File: pr.file, Line: line,
+				Msg: fmt.Sprintf("%s: program %q not found (looked for %s); add it to the base case or correct %s", what, prog, p, key)})
+		case st.IsDir() || st.Mode()&0o111 == 0:
+			pr.list = append(pr.list, &Error{File: pr.file, Line: line,
+				Msg: fmt.Sprintf("%s: %s is not an executable file; chmod +x it, or run it through its interpreter (for example %s = \"sh %s\")", what, p, key, prog)})
+		}
+		return
+	}
+	if _, err := exec.LookPath(prog); err != nil {
+		pr.list = append(pr.list, &Error{File: pr.file, Line: line,
+			Msg: fmt.Sprintf("%s: program %q is not on PATH; install it, or give its path", what, prog)})
+	}
 }
 
 // Env returns the environment variables the program sets for a stage of a

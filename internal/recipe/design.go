@@ -23,6 +23,7 @@ func checkSampling(pr *problems, r *Recipe, d rawDesign) {
 		}
 		pr.at("design."+key, "%s does not apply to scheme = %q; remove it", key, d.Scheme)
 	}
+	only("steps", d.Steps != nil, "factorial")
 	only("count", d.Count != 0, "latin", "sobol")
 	only("seed", d.Seed != 0, "latin", "sobol", "morris")
 	only("composite", d.Composite != "", "composite")
@@ -34,6 +35,9 @@ func checkSampling(pr *problems, r *Recipe, d rawDesign) {
 	case "latin", "sobol":
 		if d.Count < 2 {
 			pr.at("design", "scheme = %q needs count = N, the number of points (2 or more; about 10 per parameter is common practice)", d.Scheme)
+		}
+		if d.Scheme == "sobol" && k > doe.MaxSobolDim {
+			pr.at("design", "a sobol design takes at most %d parameters (the recipe has %d): use scheme = \"latin\", or vary fewer parameters", doe.MaxSobolDim, k)
 		}
 	case "composite":
 		switch d.Composite {
@@ -55,8 +59,11 @@ func checkSampling(pr *problems, r *Recipe, d rawDesign) {
 		if d.Trajectories < 2 {
 			pr.at("design", "scheme = \"morris\" needs trajectories = N (2 or more; 4 to 10 is usual with an expensive solver)")
 		}
-		if d.GridLevels != 0 && (d.GridLevels < 2 || d.GridLevels%2 != 0) {
+		switch {
+		case d.GridLevels != 0 && (d.GridLevels < 2 || d.GridLevels%2 != 0):
 			pr.at("design.grid_levels", "grid_levels must be an even number of 2 or more (got %d)", d.GridLevels)
+		case d.GridLevels > MaxGridLevels:
+			pr.at("design.grid_levels", "grid_levels = %d is over the limit of %d: lower it (4 to 8 levels are usual)", d.GridLevels, MaxGridLevels)
 		}
 	case "one_at_a_time":
 		if d.Baseline != nil {
@@ -85,15 +92,23 @@ func checkSampling(pr *problems, r *Recipe, d rawDesign) {
 		}
 	}
 	if d.Centre != nil {
-		if *d.Centre < 0 {
+		switch {
+		case *d.Centre < 0:
 			pr.at("design.centre", "centre cannot be negative")
+		case *d.Centre > MaxCentre:
+			pr.at("design.centre", "centre = %d is over the limit of %d: lower it (repeated centre points of a deterministic solver are planned once)", *d.Centre, MaxCentre)
+		default:
+			r.Design.Centre = *d.Centre
 		}
-		r.Design.Centre = *d.Centre
 	} else if d.Scheme == "composite" || d.Scheme == "box_behnken" {
 		r.Design.Centre = 3
 	}
 	if len(d.Constraints) > 0 && (d.Scheme == "table") {
 		pr.at("design.constraints", "constraints apply to generated designs; a table's points are yours to choose")
+	}
+	if len(d.Constraints) > MaxConstraints {
+		pr.at("design.constraints", "[design] lists %d constraints, over the limit of %d: combine them with and", len(d.Constraints), MaxConstraints)
+		return
 	}
 	names := make([]string, k)
 	for i, p := range r.Params {

@@ -10,6 +10,7 @@ import (
 	"reflect"
 	"regexp"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 	"unicode/utf8"
@@ -40,7 +41,7 @@ type rawParam struct {
 	Min    *float64 `toml:"min"`
 	Max    *float64 `toml:"max"`
 	Log    bool     `toml:"log"`
-	Steps  int      `toml:"steps"`
+	Steps  *int     `toml:"steps"`
 	Unit   string   `toml:"unit"`
 	Levels []any    `toml:"levels"` // numbers, or words
 	Mesh   string   `toml:"mesh"`
@@ -48,7 +49,7 @@ type rawParam struct {
 
 type rawDesign struct {
 	Scheme string           `toml:"scheme"`
-	Steps  int              `toml:"steps"`
+	Steps  *int             `toml:"steps"`
 	Points []map[string]any `toml:"points"`
 	File   string           `toml:"file"`
 	Seed   uint64           `toml:"seed"`
@@ -233,6 +234,10 @@ func checkCase(pr *problems, r *Recipe, c rawCase) {
 		pr.at("case.base", "base case directory %q does not exist; create it or correct the path (relative to the recipe)", c.Base)
 	case !st.IsDir():
 		pr.at("case.base", "base %q is a file; it must be the base case directory", c.Base)
+	default:
+		if why := baseOverlap(r.Dir, r.Base); why != "" {
+			pr.at("case.base", "base case directory %q %s", c.Base, why)
+		}
 	}
 	for i, g := range c.Render {
 		if err := checkGlob(g); err != nil {
@@ -245,6 +250,47 @@ func checkCase(pr *problems, r *Recipe, c rawCase) {
 		}
 	}
 	r.Render, r.Private = c.Render, c.Private
+}
+
+// The directories the program writes inside a study: the rendered cases
+// (plan.VariantsDir) and the study database (store.Dir). A test checks
+// that these names agree with those packages.
+const (
+	variantsDirName = "variants"
+	storeDirName    = ".sweep"
+)
+
+// baseOverlap says what is wrong when the base case directory overlaps
+// the study's own files: a base case is copied into every variant, so it
+// must hold neither the study nor what the program writes into it.
+func baseOverlap(study, base string) string {
+	study, base = resolved(study), resolved(base)
+	switch {
+	case base == study:
+		return "is the study directory itself, so every variant would get a copy of the whole study, its variants included: move the case into a subdirectory (such as \"template\") and point base at it"
+	case inside(study, base):
+		return "contains the study directory, so every variant would get a copy of the whole study, its variants included: point base at a directory that holds only the case"
+	case base == filepath.Join(study, variantsDirName) || inside(base, filepath.Join(study, variantsDirName)):
+		return "lies in the study's variants/ directory, which the program writes (every new variant would copy the variants before it): copy the case to a directory of its own (such as \"template\") and point base at it"
+	case base == filepath.Join(study, storeDirName) || inside(base, filepath.Join(study, storeDirName)):
+		return "lies in the study's .sweep/ directory, which holds the study database: copy the case to a directory of its own (such as \"template\") and point base at it"
+	}
+	return ""
+}
+
+// resolved returns the absolute path with symbolic links resolved, or the
+// cleaned path when that fails.
+func resolved(path string) string {
+	if p, err := filepath.EvalSymlinks(path); err == nil {
+		return p
+	}
+	return filepath.Clean(path)
+}
+
+// inside reports whether path lies strictly inside dir.
+func inside(path, dir string) bool {
+	rel, err := filepath.Rel(dir, path)
+	return err == nil && rel != "." && rel != ".." && !strings.HasPrefix(rel, ".."+string(filepath.Separator))
 }
 
 func checkGlob(g string) error {
@@ -265,10 +311,14 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 		pr.at("", "the recipe declares no parameter: add at least one [[param]] table")
 		return
 	}
+	if len(raws) > MaxParams {
+		pr.at(fmt.Sprintf("param[%d]", MaxParams), "the recipe declares %d parameters, over the limit of %d: vary fewer and keep the others fixed in the base case", len(raws), MaxParams)
+		raws = raws[:MaxParams]
+	}
 	seen := map[string]int{}
 	for i, rp := range raws {
 		key := fmt.Sprintf("param[%d]", i)
-		p := Param{Name: rp.Name, Unit: rp.Unit, Log: rp.Log, Steps: rp.Steps, Line: pr.line(key)}
+		p := Param{Name: rp.Name, Unit: rp.Unit, Log: rp.Log, Line: pr.line(key)}
 		switch {
 		case rp.Name == "":
 			pr.at(key, "parameter %d has no name: add name = \"...\"", i+1)
@@ -294,19 +344,40 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 				break
 			}
 			p.Min, p.Max = *rp.Min, *rp.Max
-			if p.Min > p.Max {
-				pr.at(key+".max", "parameter %q has min (%g) above max (%g): swap them", rp.Name, p.Min, p.Max)
+			finite := true
+			for _, b := range []struct {
+				key, end string
+				v        float64
+			}{{"min", "lower", p.Min}, {"max", "upper", p.Max}} {
+				if math.IsNaN(b.v) || math.IsInf(b.v, 0) {
+					pr.at(key+"."+b.key, "parameter %q: %s = %s is not a finite number: write the range's %s end as an ordinary number", rp.Name, b.key, tomlNumber(b.v), b.end)
+					finite = false
+				}
 			}
-			if p.Log && p.Min <= 0 {
+			switch {
+			case !finite:
+			case p.Min > p.Max:
+				pr.at(key+".max", "parameter %q has min (%g) above max (%g): swap them", rp.Name, p.Min, p.Max)
+			case p.Min == p.Max:
+				pr.at(key+".max", "parameter %q has min = max = %g, a range of no width: for a fixed value write levels = [%g] instead of min and max, or widen the range", rp.Name, p.Min, p.Min)
+			}
+			if finite && p.Log && p.Min <= 0 {
 				pr.at(key+".log", "parameter %q is on a log scale, so min must be above 0 (it is %g)", rp.Name, p.Min)
 			}
-			if rp.Steps < 0 || rp.Steps == 1 {
-				pr.at(key+".steps", "parameter %q: steps must be 2 or more (it is %d)", rp.Name, rp.Steps)
+			if rp.Steps != nil {
+				switch s := *rp.Steps; {
+				case s < 2:
+					pr.at(key+".steps", "parameter %q: steps must be 2 or more (it is %d): remove the key to use the design's default", rp.Name, s)
+				case s > MaxSteps:
+					pr.at(key+".steps", "parameter %q: steps = %d is over the limit of %d: lower it", rp.Name, s, MaxSteps)
+				default:
+					p.Steps = s
+				}
 			}
 		default:
 			checkLevels(pr, key, &p, rp.Levels)
 		}
-		if rp.Steps != 0 && p.Kind != Range {
+		if rp.Steps != nil && p.Kind != Range {
 			pr.at(key+".steps", "steps applies only to min/max ranges (levels are listed); remove it from parameter %q", rp.Name)
 		}
 		switch rp.Mesh {
@@ -336,6 +407,11 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 func checkLevels(pr *problems, key string, p *Param, raw []any) {
 	if len(raw) == 0 {
 		pr.at(key+".levels", "parameter %q has an empty levels list: list its levels, such as levels = [1, 2, 4] or levels = [\"round\", \"square\"]", p.Name)
+		p.Kind = Levels
+		return
+	}
+	if len(raw) > MaxLevels {
+		pr.at(key+".levels", "parameter %q lists %d levels, over the limit of %d: for many levels use a range (min, max) with steps", p.Name, len(raw), MaxLevels)
 		p.Kind = Levels
 		return
 	}
@@ -397,7 +473,7 @@ func firstDup(xs []float64) int {
 }
 
 func checkDesign(pr *problems, r *Recipe, d rawDesign) {
-	r.Design = Design{Scheme: d.Scheme, Steps: d.Steps, Seed: d.Seed, Count: d.Count, Line: pr.line("design"),
+	r.Design = Design{Scheme: d.Scheme, Seed: d.Seed, Count: d.Count, Line: pr.line("design"),
 		Composite: d.Composite, Trajectories: d.Trajectories, GridLevels: d.GridLevels}
 	if d.Scheme == "" {
 		pr.at("design", "[design] needs scheme = one of %s", strings.Join(SchemeNames(), ", "))
@@ -407,8 +483,15 @@ func checkDesign(pr *problems, r *Recipe, d rawDesign) {
 		pr.at("design.scheme", "unknown design scheme %q: use one of %s", d.Scheme, strings.Join(SchemeNames(), ", "))
 		return
 	}
-	if d.Steps < 0 || d.Steps == 1 {
-		pr.at("design.steps", "steps must be 2 or more (it is %d)", d.Steps)
+	if d.Steps != nil {
+		switch s := *d.Steps; {
+		case s < 2:
+			pr.at("design.steps", "steps must be 2 or more (it is %d): remove the key to use the default of 3", s)
+		case s > MaxSteps:
+			pr.at("design.steps", "steps = %d is over the limit of %d: lower it", s, MaxSteps)
+		default:
+			r.Design.Steps = s
+		}
 	}
 	if d.Count < 0 {
 		pr.at("design.count", "count must be positive (it is %d)", d.Count)
@@ -419,16 +502,8 @@ func checkDesign(pr *problems, r *Recipe, d rawDesign) {
 		if d.Points != nil || d.File != "" {
 			pr.at("design", "points and file belong to scheme = \"table\"; remove them or change the scheme")
 		}
-		if d.Steps == 0 {
+		if r.Design.Steps == 0 {
 			r.Design.Steps = 3
-		}
-		n := 1
-		for _, p := range r.Params {
-			n *= max(p.Levels(r.Design.Steps), 1)
-			if n > 1_000_000 {
-				pr.at("design", "the full factorial has over a million points: lower the steps, or use a sampling design")
-				return
-			}
 		}
 	case "table":
 		switch {
@@ -453,11 +528,16 @@ func checkDesign(pr *problems, r *Recipe, d rawDesign) {
 			pr.at("design", "scheme = \"table\" needs points = [ {param = value, ...}, ... ] or file = \"points.csv\"")
 		}
 	}
+	checkSize(pr, r)
 }
 
 func inlinePoints(pr *problems, r *Recipe, raws []map[string]any) []Point {
 	if len(raws) == 0 {
 		pr.at("design.points", "the design table is empty: the study would have no variant")
+		return nil
+	}
+	if len(raws) > MaxVariants {
+		pr.at("design.points", "the design table lists %d points, over the limit of %d variants a study may have: split it into several studies", len(raws), MaxVariants)
 		return nil
 	}
 	var pts []Point
@@ -507,11 +587,16 @@ func inlinePoints(pr *problems, r *Recipe, raws []map[string]any) []Point {
 	return pts
 }
 
+// toValue reads a parameter value written in the recipe: a number, which
+// must be finite, or a word.
 func toValue(v any) (Value, error) {
 	switch x := v.(type) {
 	case int64:
 		return Num(float64(x)), nil
 	case float64:
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return Value{}, fmt.Errorf("%s is not a finite number: write an ordinary number", tomlNumber(x))
+		}
 		return Num(x), nil
 	case string:
 		if x == "" {
@@ -520,6 +605,20 @@ func toValue(v any) (Value, error) {
 		return Word(x), nil
 	}
 	return Value{}, fmt.Errorf("value %v is neither a number nor a word", v)
+}
+
+// tomlNumber writes x as a recipe would spell it: nan, inf and -inf in
+// TOML's words.
+func tomlNumber(x float64) string {
+	switch {
+	case math.IsNaN(x):
+		return "nan"
+	case math.IsInf(x, 1):
+		return "inf"
+	case math.IsInf(x, -1):
+		return "-inf"
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
 }
 
 func checkStages(pr *problems, r *Recipe, raws []rawStage) {
@@ -583,6 +682,7 @@ func checkStages(pr *problems, r *Recipe, raws []rawStage) {
 		}
 		if rs.Continue != "" {
 			s.ContinueCommand = rs.Continue
+			s.ContinueLine = pr.line(key + ".continue")
 			if rs.Shell {
 				s.ContinueArgv = []string{"sh", "-c", rs.Continue, "sh"}
 			} else if argv, err := SplitCommand(rs.Continue); err != nil {

@@ -2,6 +2,7 @@ package recipe
 
 import (
 	"fmt"
+	"math"
 	"slices"
 	"strings"
 	"time"
@@ -85,10 +86,10 @@ type rawQuantity struct {
 }
 
 type rawScale struct {
-	Factor    float64 `toml:"factor"`
-	Density   float64 `toml:"density"`
-	Speed     float64 `toml:"speed"`
-	Reference float64 `toml:"reference"`
+	Factor    *float64 `toml:"factor"`
+	Density   *float64 `toml:"density"`
+	Speed     *float64 `toml:"speed"`
+	Reference *float64 `toml:"reference"`
 }
 
 type rawSettle struct {
@@ -127,8 +128,7 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 		default:
 			pr.at(key+".better", "quantity %q: better must be \"lower\" or \"higher\" (got %q): it says which values of the quantity are better", rq.Name, rq.Better)
 		}
-		q.Spec = harvest.Quantity{Files: rq.Files, Comment: rq.Comment,
-			Scale: harvest.Scale{Factor: rq.Scale.Factor, Density: rq.Scale.Density, Speed: rq.Scale.Speed, Reference: rq.Scale.Reference}}
+		q.Spec = harvest.Quantity{Files: rq.Files, Comment: rq.Comment, Scale: checkScale(pr, key, rq.Name, rq.Scale)}
 		if rq.Files == "" {
 			pr.at(key, "quantity %q needs files = \"GLOB\": the history files, relative to the variant directory", rq.Name)
 		}
@@ -160,12 +160,51 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 				pr.at(key, "quantity %q: %v", rq.Name, err)
 			}
 		}
-		if rq.Tolerance < 0 || rq.RelTolerance < 0 {
-			pr.at(key, "quantity %q: tolerances cannot be negative", rq.Name)
+		if !(rq.Tolerance >= 0) || math.IsInf(rq.Tolerance, 0) {
+			pr.at(key+".tolerance", "quantity %q: tolerance = %s must be a finite number of 0 or more: the largest 95 %% half-width accepted, in the quantity's unit", rq.Name, tomlNumber(rq.Tolerance))
+		}
+		if !(rq.RelTolerance >= 0) || math.IsInf(rq.RelTolerance, 0) {
+			pr.at(key+".relative_tolerance", "quantity %q: relative_tolerance = %s must be a finite number of 0 or more: the largest 95 %% half-width accepted, as a fraction of the mean (0.01 is 1 %%)", rq.Name, tomlNumber(rq.RelTolerance))
+		}
+		if rq.Start != nil && (math.IsNaN(*rq.Start) || math.IsInf(*rq.Start, 0)) {
+			pr.at(key+".start", "quantity %q: start = %s is not a time: give the time from which to average, or remove start to detect the transient", rq.Name, tomlNumber(*rq.Start))
 		}
 		q.Opts = harvest.Options{Abs: max(rq.Tolerance, 0), Rel: max(rq.RelTolerance, 0), Start: rq.Start}
 		r.Quantities = append(r.Quantities, q)
 	}
+}
+
+// checkScale reads a quantity's scale. Every number given must be finite
+// and above 0: a zero density, speed or reference would divide by zero,
+// and a factor of 0 or below would silently drop or flip the value (a sign
+// belongs to the value's terms). A scale with a refused number is left
+// out of the quantity, so that only these messages report it.
+func checkScale(pr *problems, key, name string, raw rawScale) harvest.Scale {
+	ok := true
+	for _, f := range []struct {
+		key, what string
+		v         *float64
+	}{
+		{"factor", "the number the value is multiplied by; to flip its sign, give the value's term a factor: value = {column = 3, factor = -1}", raw.Factor},
+		{"density", "the fluid's density", raw.Density},
+		{"speed", "the reference speed", raw.Speed},
+		{"reference", "the reference area (a length for a 2D case)", raw.Reference},
+	} {
+		if f.v != nil && (!(*f.v > 0) || math.IsInf(*f.v, 0)) {
+			pr.at(key+".scale."+f.key, "quantity %q: scale %s = %s must be a finite number above 0: %s", name, f.key, tomlNumber(*f.v), f.what)
+			ok = false
+		}
+	}
+	if !ok {
+		return harvest.Scale{}
+	}
+	get := func(p *float64) float64 {
+		if p == nil {
+			return 0
+		}
+		return *p
+	}
+	return harvest.Scale{Factor: get(raw.Factor), Density: get(raw.Density), Speed: get(raw.Speed), Reference: get(raw.Reference)}
 }
 
 func checkSettle(pr *problems, r *Recipe, key string, s *Stage, raw *rawSettle) {

@@ -84,6 +84,7 @@ type Stage struct {
 	// solver's run (from its last restart data) rather than starting over.
 	ContinueCommand string
 	ContinueArgv    []string
+	ContinueLine    int // line of the continue key in the recipe
 	// Settle, when set, stops the stage's solver once the named
 	// quantities' averages have settled (converged to their tolerance).
 	Settle *Settle

@@ -81,15 +81,20 @@ func tidy(x float64) float64 {
 // linearly (or linearly in log(value) when Log is set); a list of levels or
 // choices is cut into len equal intervals and u picks one, so the points
 // j/(n-1) of an n-level factorial pick level j. Coordinates outside [0,1]
-// are clamped.
+// are clamped. A range's value is tidied (see tidy) and then kept within
+// [Min, Max], which a bound of more than 12 significant digits would
+// otherwise let the rounding leave.
 func (p Param) At(u float64) Value {
 	u = math.Max(0, math.Min(1, u))
 	switch p.Kind {
 	case Range:
+		var x float64
 		if p.Log {
-			return Num(tidy(math.Exp(math.Log(p.Min) + u*(math.Log(p.Max)-math.Log(p.Min)))))
+			x = math.Exp(math.Log(p.Min) + u*(math.Log(p.Max)-math.Log(p.Min)))
+		} else {
+			x = p.Min + u*(p.Max-p.Min)
 		}
-		return Num(tidy(p.Min + u*(p.Max-p.Min)))
+		return Num(math.Max(p.Min, math.Min(p.Max, tidy(x))))
 	case Levels:
 		return Num(p.Values[pick(u, len(p.Values))])
 	default:
