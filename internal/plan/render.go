@@ -10,9 +10,9 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
-	"text/template"
 	"sync"
 	"sync/atomic"
+	"text/template"
 	"text/template/parse"
 	"unicode/utf8"
 

@@ -19,7 +19,7 @@ import (
 
 // Result says what a recovery found and kept.
 type Result struct {
-	Sound      bool   // the database was sound: nothing was changed
+	Sound      bool // the database was sound: nothing was changed
 	Counts     store.Counts
 	Why        string // what was wrong with the database
 	Source     string // "the copy of <time>" or "the variant directories"

@@ -32,8 +32,8 @@ type Attempt struct {
 	Continued bool
 	Token     string
 	Started   time.Time
-	Settled   bool   // the runner recorded that its averages settled
-	Ended     bool   // the executor recorded its end
+	Settled   bool // the runner recorded that its averages settled
+	Ended     bool // the executor recorded its end
 	EndTime   time.Time
 	Outcome   string // "exit status 0", "killed by signal: terminated", ...
 	Stopped   bool   // the program stopped it (the end says nothing about the work)
