@@ -173,6 +173,10 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 	if err != nil {
 		return nil, err
 	}
+	if planned := int(study.NextSeq - 1); planned > recipe.MaxVariants {
+		return nil, fmt.Errorf("%w: %s:%d: the study would have %d variants, over the limit of %d a study may have: plan the rest in another study",
+			recipe.ErrInvalid, filepath.Base(r.File), r.Design.Line, planned, recipe.MaxVariants)
+	}
 	if opts.DryRun {
 		return res, nil
 	}

@@ -309,3 +309,24 @@ func TestTemplateArithmetic(t *testing.T) {
 		t.Errorf("case.txt = %q", b)
 	}
 }
+
+// Ensure that a rendered file may not loop (a {{range}} could run without
+// end or fill the disk) and that arithmetic that gives no finite number
+// (a division by zero) stops the plan with the operation named, instead of
+// writing "+Inf" into a case file.
+func TestRenderRefusesLoopsAndInfinities(t *testing.T) {
+	dir := study(t, recipeText)
+	must(t, os.WriteFile(filepath.Join(dir, "template", "case.txt"), []byte("a\n{{range 1000000000}}x{{end}}\n"), 0o644))
+	_, err := Plan(context.Background(), load(t, dir), Options{DryRun: true})
+	if err == nil || !strings.Contains(err.Error(), "case.txt (line 2): {{range}} is not allowed in a rendered file") {
+		t.Errorf("a loop: %v", err)
+	}
+	must(t, os.WriteFile(filepath.Join(dir, "template", "case.txt"), []byte("nu {{div 1 (sub .r 0.1)}}\n"), 0o644))
+	_, err = Plan(context.Background(), load(t, dir), Options{})
+	if err == nil || !strings.Contains(err.Error(), "div 1 0 is +Inf, not a finite number") {
+		t.Errorf("a division by zero: %v", err)
+	}
+	if ents, _ := os.ReadDir(filepath.Join(dir, VariantsDir)); len(ents) != 0 {
+		t.Errorf("the failed plan left %d entries in variants/", len(ents))
+	}
+}

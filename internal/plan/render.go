@@ -168,6 +168,10 @@ func parseTemplate(path, rel string, r *recipe.Recipe) (*template.Template, erro
 				bad = append(bad, fmt.Sprintf("%s (%s): {{.%s}} names no parameter of the recipe; known: %s", path, lineOf(loc), name, paramNames(r)))
 			}
 		})
+		walkLoops(tt.Tree.Root, func(n parse.Node) {
+			loc, _ := tt.ErrorContext(n)
+			bad = append(bad, fmt.Sprintf("%s (%s): {{range}} is not allowed in a rendered file: it could loop without end; write the values out, or compute them in the solver's input", path, lineOf(loc)))
+		})
 	}
 	if bad != nil {
 		return nil, errors.New(strings.Join(bad, "\n"))
@@ -177,14 +181,51 @@ func parseTemplate(path, rel string, r *recipe.Recipe) (*template.Template, erro
 
 // funcs are the arithmetic a template may do on parameter values, so a
 // case file can hold a derived setting: {{div 0.125 .reynolds}} is a
-// viscosity for a chosen Reynolds number. Every function takes and
-// returns float64.
+// viscosity for a chosen Reynolds number. Every function takes float64
+// and returns a finite float64, or an error (a division by zero, an
+// overflow) that names the operation, so no "NaN" or "+Inf" reaches a
+// case file.
 var funcs = template.FuncMap{
-	"add": func(a, b float64) float64 { return a + b },
-	"sub": func(a, b float64) float64 { return a - b },
-	"mul": func(a, b float64) float64 { return a * b },
-	"div": func(a, b float64) float64 { return a / b },
-	"pow": math.Pow,
+	"add": finite2("add", func(a, b float64) float64 { return a + b }),
+	"sub": finite2("sub", func(a, b float64) float64 { return a - b }),
+	"mul": finite2("mul", func(a, b float64) float64 { return a * b }),
+	"div": finite2("div", func(a, b float64) float64 { return a / b }),
+	"pow": finite2("pow", math.Pow),
+}
+
+// finite2 wraps a binary operation so that a result that is not a finite
+// number is an error.
+func finite2(name string, f func(a, b float64) float64) func(a, b float64) (float64, error) {
+	return func(a, b float64) (float64, error) {
+		v := f(a, b)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return 0, fmt.Errorf("%s %g %g is %g, not a finite number", name, a, b, v)
+		}
+		return v, nil
+	}
+}
+
+// walkLoops calls fn for every {{range}} in a template tree.
+func walkLoops(n parse.Node, fn func(parse.Node)) {
+	switch x := n.(type) {
+	case *parse.ListNode:
+		if x == nil {
+			return
+		}
+		for _, c := range x.Nodes {
+			walkLoops(c, fn)
+		}
+	case *parse.RangeNode:
+		fn(x)
+		walkLoops(x.List, fn)
+		walkLoops(x.ElseList, fn)
+	case *parse.IfNode:
+		walkLoops(x.List, fn)
+		walkLoops(x.ElseList, fn)
+	case *parse.WithNode:
+		walkLoops(x.List, fn)
+		walkLoops(x.ElseList, fn)
+	}
 }
 
 // lineOf turns text/template's "name:line:col" location into "line L".

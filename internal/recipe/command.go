@@ -91,6 +91,9 @@ func (r *Recipe) CheckCommands() error {
 			line = s.Line
 		}
 		r.checkProgram(pr, s, "continue", s.ContinueArgv, line)
+		if s.Settle != nil && s.Settle.By == "command" {
+			r.checkProgram(pr, s, "settle command", s.Settle.Command, s.Line)
+		}
 	}
 	if len(pr.list) > 0 {
 		return pr.list
