@@ -5,6 +5,7 @@ import (
 	"io"
 	"os"
 	"strconv"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -16,8 +17,9 @@ import (
 )
 
 type harvestOptions struct {
-	json bool
-	csv  bool
+	json    bool
+	csv     bool
+	running bool
 }
 
 func newHarvestCmd() *cobra.Command {
@@ -27,12 +29,23 @@ func newHarvestCmd() *cobra.Command {
 		Short: "Average every variant's histories, with confidence intervals and verdicts",
 		Long: `harvest reads the force or coefficient histories of every variant that has
 run (or runs now), as the recipe's [[quantity]] tables describe, removes the
-initial transient (MSER-5), averages the rest with a 95 % confidence
-interval that accounts for autocorrelation, and gives a verdict: converged,
-not_converged (with the extra time needed), steady, or failed.
+initial transient, averages the rest with a 95 % confidence interval (over
+whole cycles for a periodic history such as vortex shedding; from batch
+means sized by the autocorrelation otherwise), and gives a verdict:
+
+  converged      the half-width is within the tolerance
+  steady         the history settled to a constant (the interval is a bound)
+  not_converged  an honest interval, wider than the tolerance: run longer
+  too_short      too little after the transient to judge: run longer
+  drifting       the average still moves: run longer, or set start
+  running        the run has not ended (preliminary figures)
+  no_data        the run ended without a history to average
+  failed         the solver run failed (or diverged: NaN in its history)
 
 The summary is kept in the study database and written to
-results/summary.json and results/summary.csv.`,
+results/summary.json and results/summary.csv. While a run goes on, the
+variants it still runs keep their last finished results there (and are
+listed), unless --include-running records their preliminary averages.`,
 		Args: maxOneDir,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			dir := studyDir(args)
@@ -41,9 +54,16 @@ results/summary.json and results/summary.csv.`,
 				return err
 			}
 			defer st.Close()
-			vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
+			vs, running, err := results.Harvest(cmd.Context(), r, st, results.Options{Progress: harvestProgress(), IncludeRunning: opts.running})
 			if err != nil {
 				return err
+			}
+			if len(running) > 0 {
+				note := "results/summary.* keep their last finished harvest (--include-running records their preliminary averages)"
+				if opts.running {
+					note = "their preliminary averages are recorded, marked running"
+				}
+				fmt.Fprintf(cmd.ErrOrStderr(), "still running: %s; %s\n", strings.Join(running, ", "), note)
 			}
 			out := cmd.OutOrStdout()
 			switch {
@@ -63,6 +83,7 @@ results/summary.json and results/summary.csv.`,
 	}
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the results as JSON")
 	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print the results as CSV")
+	cmd.Flags().BoolVar(&opts.running, "include-running", false, "record the preliminary averages of variants still running in the summary")
 	return cmd
 }
 
@@ -87,7 +108,7 @@ func harvestStudy(cmd *cobra.Command, dir, quantity string) (*harvested, error) 
 		st.Close()
 		return nil, usageError{err}
 	}
-	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
+	vs, _, err := results.Harvest(cmd.Context(), r, st, results.Options{Progress: harvestProgress()})
 	if err != nil {
 		st.Close()
 		return nil, err
@@ -129,11 +150,7 @@ func printHarvest(w io.Writer, r *recipe.Recipe, vs []results.Variant) {
 				row = append(row, "-", "-", string(v.State))
 				continue
 			}
-			if res.Verdict == "failed" {
-				row = append(row, "-", strconv.Itoa(res.Samples), "failed: "+res.Message)
-				continue
-			}
-			row = append(row, ui.PlusMinus(res.Mean, res.HalfWidth), fmt.Sprintf("%d (%.0f eff.)", res.Samples, res.EffectiveSamples), verdictNote(res.Verdict, res.ExtraTime))
+			row = append(row, ui.PlusMinus(res.Mean, res.HalfWidth), samplesNote(res), verdictNote(res))
 		}
 		rows = append(rows, row)
 	}
@@ -142,10 +159,33 @@ func printHarvest(w io.Writer, r *recipe.Recipe, vs []results.Variant) {
 	fmt.Fprintln(w, ui.Caution)
 }
 
-func verdictNote(v harvest.Verdict, extra float64) string {
-	s := string(v)
-	if s == "not_converged" && extra > 0 {
-		s += fmt.Sprintf(" (run ~%.3g longer)", extra)
+// samplesNote says what an average stands on: its samples and either the
+// whole cycles it covers or its effective (independent) samples.
+func samplesNote(r harvest.Result) string {
+	switch {
+	case r.Samples == 0:
+		return "-"
+	case r.Method == "cycles":
+		return fmt.Sprintf("%d (%d cycles)", r.Samples, r.Periods)
+	case r.EffectiveSamples > 0:
+		return fmt.Sprintf("%d (%.0f eff.)", r.Samples, r.EffectiveSamples)
+	}
+	return strconv.Itoa(r.Samples)
+}
+
+// verdictNote is the verdict, with the further run time it asks for.
+func verdictNote(r harvest.Result) string {
+	s := string(r.Verdict)
+	switch r.Verdict {
+	case harvest.NotConverged, harvest.TooShort, harvest.Drifting:
+		switch {
+		case r.ExtraCapped:
+			s += " (needs over 100 times its window)"
+		case r.ExtraTime > 0:
+			s += fmt.Sprintf(" (run about %s longer)", ui.Number(r.ExtraTime))
+		}
+	case harvest.Failed, harvest.NoData:
+		s += ": " + r.Message
 	}
 	return s
 }

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -54,6 +53,10 @@ its results.`,
 	return cmd
 }
 
+// maxAdd bounds the proposals of one plan --add: each one refits the
+// surface.
+const maxAdd = 1000
+
 func runPlan(cmd *cobra.Command, opts planOptions, dir string) error {
 	r, err := loadRecipe(dir)
 	if err != nil {
@@ -67,8 +70,8 @@ func runPlan(cmd *cobra.Command, opts planOptions, dir string) error {
 		defer lock.Release()
 	}
 	var extra []recipe.Point
-	if opts.add < 0 {
-		return usageError{errors.New("--add must be positive")}
+	if opts.add < 0 || opts.add > maxAdd {
+		return usageError{fmt.Errorf("--add takes 1 to %d new variants at a time (each refits the surface); got %d", maxAdd, opts.add)}
 	}
 	if opts.add > 0 {
 		if extra, err = propose(cmd, r, dir, opts); err != nil {
@@ -112,7 +115,7 @@ func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions)
 		return nil, err
 	}
 	defer st.Close()
-	vs, err := results.Harvest(cmd.Context(), r, st, harvestProgress())
+	vs, _, err := results.Harvest(cmd.Context(), r, st, results.Options{Progress: harvestProgress()})
 	if err != nil {
 		return nil, err
 	}

@@ -128,8 +128,8 @@ func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st 
 		}
 		for _, qq := range r.Quantities {
 			res, ok := v.Results[qq.Name]
-			if !ok {
-				continue
+			if !ok || qq.Derived() {
+				continue // a statistic of a quantity's cycles has no history of its own
 			}
 			qs := report.QuantitySeries{Name: qq.Name, Unit: qq.Unit, TransientEnd: res.TransientEnd, Mean: res.Mean,
 				HalfWidth: res.HalfWidth, Verdict: string(res.Verdict), Message: res.Message}

@@ -3,6 +3,7 @@ package main
 import (
 	"errors"
 	"fmt"
+	"math"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -65,7 +66,7 @@ one, and a verdict against the tolerance.`,
 					return jerr
 				}
 			} else if opts.csv {
-				f := func(x float64) string { return strconv.FormatFloat(x, 'g', 10, 64) }
+				f := ui.CSVNumber
 				if cerr := ui.CSV(out, [][]string{
 					{"file", "column", "mean", "half_width", "samples", "effective_samples", "transient_end", "period", "verdict"},
 					{args[0], opts.column, f(res.Mean), f(res.HalfWidth), strconv.Itoa(res.Samples), f(res.EffectiveSamples), f(res.TransientEnd), f(res.Period), string(res.Verdict)},
@@ -78,7 +79,7 @@ one, and a verdict against the tolerance.`,
 			if err != nil {
 				return err
 			}
-			if res.Verdict == harvest.Failed {
+			if res.Verdict == harvest.Failed || res.Verdict == harvest.NoData {
 				return fmt.Errorf("no usable average: %s", res.Message)
 			}
 			return nil
@@ -104,18 +105,36 @@ func globEscape(s string) string {
 
 func printStats(w interface{ Write([]byte) (int, error) }, file, column string, r harvest.Result) {
 	fmt.Fprintf(w, "%s, column %s\n", file, column)
-	if r.Verdict == harvest.Failed {
-		fmt.Fprintf(w, "  verdict      failed: %s\n", r.Message)
+	if r.Verdict == harvest.Failed || r.Verdict == harvest.NoData {
+		fmt.Fprintf(w, "  verdict        %s: %s\n", r.Verdict, r.Message)
 		return
 	}
 	rows := [][]string{
-		{"  mean", ui.PlusMinus(r.Mean, r.HalfWidth) + fmt.Sprintf("  (%.0f%% confidence interval)", 100*r.Confidence)},
-		{"  samples", fmt.Sprintf("%d used of the run, %.0f effective (correlation time %.3g)", r.Samples, r.EffectiveSamples, r.CorrelationTime)},
-		{"  averaged from", fmt.Sprintf("%.6g (transient removed: %s)", r.TransientEnd, r.TransientMethod)},
+		{"  mean", ui.PlusMinus(r.Mean, r.HalfWidth) + fmt.Sprintf("  (%.0f%% confidence interval; tolerance %s)", 100*r.Confidence, ui.Number(r.Tolerance))},
 	}
-	if r.Period > 0 {
-		rows = append(rows, []string{"  period", fmt.Sprintf("%.4g (%d periods averaged)", r.Period, r.Periods)})
+	switch r.Method {
+	case "cycles":
+		rows = append(rows, []string{"  averaged over", fmt.Sprintf("%d whole cycles of %s (%d samples), in %d batches", r.Periods, ui.Number(r.Period), r.Samples, r.Batches)})
+	case "bound":
+		rows = append(rows, []string{"  settled", fmt.Sprintf("the last %d samples; the interval is a bound (range and drift), not a statistical interval", r.Samples)})
+	default:
+		rows = append(rows, []string{"  averaged over", fmt.Sprintf("%d samples, %s effective (correlation time %s)", r.Samples, ui.Number(r.EffectiveSamples), ui.Number(r.CorrelationTime))})
 	}
-	rows = append(rows, []string{"  verdict", verdictNote(r.Verdict, r.ExtraTime) + "  " + r.Message})
+	rows = append(rows, []string{"  from", fmt.Sprintf("t = %s (transient cut: %s) to t = %s", ui.Number(r.TransientEnd), r.TransientMethod, ui.Number(r.EndTime))})
+	if c := r.Cycle; c != nil {
+		st := func(s harvest.Statistic) string {
+			return ui.PlusMinus(s.Value, harvest.HalfWidth(s, r.Confidence))
+		}
+		rows = append(rows,
+			[]string{"  cycles", fmt.Sprintf("max %s, min %s, amplitude %s", st(c.Max), st(c.Min), st(c.Amplitude))},
+			[]string{"  frequency", st(c.Frequency) + " per time unit"})
+	}
+	if !math.IsNaN(r.RMS.Value) {
+		rows = append(rows, []string{"  rms", ui.PlusMinus(r.RMS.Value, harvest.HalfWidth(r.RMS, r.Confidence)) + " (of the fluctuation)"})
+	}
+	rows = append(rows, []string{"  verdict", verdictNote(r) + "  " + r.Message})
+	for _, n := range r.Notes {
+		rows = append(rows, []string{"  note", n})
+	}
 	ui.Table(w, rows)
 }

@@ -7,13 +7,18 @@ import (
 
 // Harvest reads the history of q in the variant directory dir (see
 // ReadSeries) and analyses it (see Analyze). The Result is always usable:
-// on a read error its verdict is Failed, its message is the error's text,
-// and the error is returned as well so that callers can test it with
-// errors.Is (ErrNonFinite, for instance, marks a diverged run).
+// on a read error its verdict is NoData (no file, no data row) or Failed
+// (NaN or Inf, a diverged run; a broken file), its message is the error's
+// text, and the error is returned as well so that callers can test it
+// with errors.Is.
 func Harvest(dir string, q Quantity, opts Options) (Result, error) {
 	s, err := ReadSeries(dir, q)
 	if err != nil {
-		r := Result{Verdict: Failed, Message: err.Error(), Confidence: opts.withDefaults().Confidence}
+		r := unknown(opts.withDefaults().Confidence)
+		r.Verdict, r.Message = Failed, err.Error()
+		if errors.Is(err, ErrNoFiles) || errors.Is(err, ErrNoData) {
+			r.Verdict = NoData
+		}
 		if s != nil {
 			r.Files, r.Overlaps, r.Notes = s.Files, s.Overlaps, s.Notes
 		}
@@ -30,10 +35,10 @@ func Harvest(dir string, q Quantity, opts Options) (Result, error) {
 }
 
 // Settled is meant for a runner that polls a running case: it harvests
-// the history so far and reports whether the average already meets the
-// tolerance (verdict Converged or Steady), so the case may be stopped.
-// opts.MinSamples sets the least number of samples averaged after the
-// transient (or, for a steady signal, in the whole history) before a stop.
+// the history so far with the quantity's own options, so its verdict is
+// the one a later harvest of the same history gives, and reports whether
+// the case may be stopped: the verdict is converged or steady and at
+// least minSamples samples were averaged.
 //
 // A history that does not exist yet or holds no data row is not an error
 // here: stop is false and the Result says why. Other read errors are
@@ -41,10 +46,8 @@ func Harvest(dir string, q Quantity, opts Options) (Result, error) {
 //
 // Each call re-reads the files from the start, which costs well under a
 // second for a history of tens of MB (see BenchmarkReadHistory) and is
-// negligible beside a solver's time step. Incremental reading (keeping
-// each file's offset and the last complete line) would be easy to add if
-// polling ever became a burden; the statistics would still be recomputed.
-func Settled(dir string, q Quantity, opts Options) (stop bool, r Result, err error) {
+// negligible beside a solver's time step.
+func Settled(dir string, q Quantity, opts Options, minSamples int) (stop bool, r Result, err error) {
 	r, err = Harvest(dir, q, opts)
 	if errors.Is(err, ErrNoFiles) || errors.Is(err, ErrNoData) {
 		return false, r, nil
@@ -52,5 +55,5 @@ func Settled(dir string, q Quantity, opts Options) (stop bool, r Result, err err
 	if err != nil {
 		return false, r, err
 	}
-	return r.Verdict == Converged || r.Verdict == Steady, r, nil
+	return r.Verdict.Usable() && r.Samples >= minSamples, r, nil
 }

@@ -76,10 +76,10 @@ func TestHarvestReadError(t *testing.T) {
 func TestSettled(t *testing.T) {
 	dir := t.TempDir()
 	q := Quantity{Files: "out/coef*.dat", Value: []Term{{Column: ColumnIndex(2)}}}
-	opts := Options{Abs: 0.01, MinSamples: 500}
+	opts := Options{Abs: 0.01}
 
-	stop, r, err := Settled(dir, q, opts)
-	if stop || err != nil || r.Verdict != Failed {
+	stop, r, err := Settled(dir, q, opts, 500)
+	if stop || err != nil || r.Verdict != NoData {
 		t.Fatalf("no file yet: stop %v, %v, %v", stop, r.Verdict, err)
 	}
 	if err := os.Mkdir(filepath.Join(dir, "out"), 0o755); err != nil {
@@ -92,7 +92,7 @@ func TestSettled(t *testing.T) {
 	}
 	defer f.Close()
 	fmt.Fprintln(f, "# time cd")
-	stop, _, err = Settled(dir, q, opts)
+	stop, _, err = Settled(dir, q, opts, 500)
 	if stop || err != nil {
 		t.Fatalf("header only: stop %v, %v", stop, err)
 	}
@@ -107,7 +107,7 @@ func TestSettled(t *testing.T) {
 			fmt.Fprintf(f, "%d %.9f\n", j, 1.5+x[j])
 		}
 		fmt.Fprintf(f, "%d 1.5", i+step) // being written
-		stop, r, err = Settled(dir, q, opts)
+		stop, r, err = Settled(dir, q, opts, 500)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -63,45 +63,39 @@ func TestMSER5HalfRunLimit(t *testing.T) {
 }
 
 // Ensure that τ_int of AR(1) noise matches the analytic (1+φ)/(1−φ)
-// (textbook result, e.g. Sokal 1997, sec. 3) within 10 % for long series.
-// The estimator's relative standard deviation is √(2(2M+1)/n) (Madras and
-// Sokal 1988): 0.6 %, 1.5 % and 4.8 % for the three cases at n = 2^20, so
-// 10 % is at least two standard deviations.
-func TestIntegratedTimeAR1(t *testing.T) {
+// (textbook result, e.g. Sokal 1997, sec. 3) within 10 % for long series,
+// by Geyer's initial monotone sequence estimator (Geyer 1992). Its
+// relative standard deviation is about √(2(2M+1)/n) for a sum of M lags
+// (Madras and Sokal 1988): below 5 % for these cases at n = 2^20, so 10 %
+// is at least two standard deviations.
+func TestGeyerTimeAR1(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 1))
 	n := 1 << 20
 	for _, phi := range []float64{0, 0.5, 0.9, 0.99} {
 		x := ar1(rng, n, phi, 1)
-		tau, w, dof, ok := IntegratedTime(x)
+		tau, lags := GeyerTime(x)
 		want := (1 + phi) / (1 - phi)
-		t.Logf("φ = %v: τ = %.3f (analytic %.3f), window %d, dof %.0f", phi, tau, want, w, dof)
-		if !ok {
-			t.Errorf("φ = %v: no self-consistent window", phi)
-		}
+		t.Logf("φ = %v: τ = %.3f (analytic %.3f), %d lags", phi, tau, want, lags)
 		if math.Abs(tau/want-1) > 0.10 {
 			t.Errorf("φ = %v: τ = %.3f, want %.3f ± 10 %%", phi, tau, want)
 		}
 	}
 }
 
-// Ensure that the blocked estimate used for very long series agrees with
-// the analytic long-run variance σ²τ = s²(1+φ)/((1−φ)(1−φ²)) of AR(1)
-// noise (textbook, as above), within 10 %.
-func TestCorrelationBlocked(t *testing.T) {
+// Ensure that the blocked estimate used for long series agrees with the
+// analytic long-run variance σ²τ = s²(1+φ)/((1−φ)(1−φ²)) of AR(1) noise
+// (textbook, as above), within 10 %.
+func TestLongRunBlocked(t *testing.T) {
 	rng := rand.New(rand.NewPCG(2, 2))
 	phi := 0.9
 	x := ar1(rng, 3*maxACFLength+7, phi, 1) // blocks of 4
-	c := correlation(x)
-	tau, period, lrv := c.tau, c.period, c.lrv
+	lrv, tau := longRun(x)
 	want := (1 + phi) / (1 - phi) / (1 - phi*phi)
 	if math.Abs(lrv/want-1) > 0.10 {
 		t.Errorf("long-run variance %.3f, want %.3f ± 10 %%", lrv, want)
 	}
 	if math.Abs(tau/((1+phi)/(1-phi))-1) > 0.10 {
 		t.Errorf("τ = %.3f, want %.3f ± 10 %%", tau, (1+phi)/(1-phi))
-	}
-	if period != 0 {
-		t.Errorf("AR(1) noise reported a period %v", period)
 	}
 }
 
@@ -122,12 +116,11 @@ func TestMeanVarianceGonum(t *testing.T) {
 	}
 }
 
-// Ensure that a period is found and sharpened: a sinusoid of period 137.3
-// samples in AR(1) noise (φ = 0.5) is recovered within 0.05 %, and 60
-// series of AR(1) noise alone (φ = 0.9) show none. The tolerance: the
-// phase drift between the two halves fixes the frequency to about
-// σ/(A·n^{3/2}) radians per sample, far below it.
-func TestPeriodDetection(t *testing.T) {
+// Ensure that the cycles of a sinusoid in AR(1) noise are found, with
+// the mean cycle length within 0.05 % of the period (of 137.3 samples),
+// and that 60 series of AR(1) noise alone (φ = 0.9, and φ = 0.98 whose
+// correlation time is 99 samples) are not taken for periodic.
+func TestCycleDetection(t *testing.T) {
 	rng := rand.New(rand.NewPCG(4, 4))
 	const p = 137.3
 	for k := 0; k < 5; k++ {
@@ -136,14 +129,20 @@ func TestPeriodDetection(t *testing.T) {
 		for i := range x {
 			x[i] += math.Sin(2*math.Pi*float64(i)/p + ph)
 		}
-		got := correlation(x).period
-		if math.Abs(got/p-1) > 5e-4 {
-			t.Errorf("period %.4f, want %v ± 0.05 %%", got, p)
+		cs, periodic := findCycles(x, len(x)/2, developedPeriod(x, len(x)/2))
+		if !periodic {
+			t.Fatalf("sinusoid not found periodic")
+		}
+		l := (cs[len(cs)-1].end - cs[0].start) / float64(len(cs))
+		if math.Abs(l/p-1) > 5e-4 {
+			t.Errorf("mean cycle length %.4f, want %v ± 0.05 %%", l, p)
 		}
 	}
 	for k := 0; k < 60; k++ {
-		if got := correlation(ar1(rng, 20000, 0.9, 1)).period; got != 0 {
-			t.Errorf("AR(1) noise: spurious period %.1f", got)
+		phi := []float64{0.9, 0.98}[k%2]
+		x := ar1(rng, 20000, phi, 1)
+		if cs, periodic := findCycles(x, len(x)/2, developedPeriod(x, len(x)/2)); periodic {
+			t.Errorf("AR(1) noise (φ = %v) taken for periodic with %d cycles", phi, len(cs))
 		}
 	}
 }
@@ -222,10 +221,10 @@ func TestAnalyzeNotConvergedNeededTime(t *testing.T) {
 	if r.Verdict != NotConverged {
 		t.Fatalf("verdict %s, want not_converged", r.Verdict)
 	}
-	if r.NeededTime <= float64(r.Samples) || r.ExtraTime <= 0 {
-		t.Fatalf("needed %v, extra %v", r.NeededTime, r.ExtraTime)
+	if !(r.ExtraTime > 0) || r.ExtraCapped {
+		t.Fatalf("extra %v (capped %v)", r.ExtraTime, r.ExtraCapped)
 	}
-	long := ar1(rng, int(r.NeededTime)+n, 0.9, 1)
+	long := ar1(rng, int(r.ExtraTime)+n, 0.9, 1)
 	for i := range long {
 		long[i] += 10
 	}
@@ -235,28 +234,37 @@ func TestAnalyzeNotConvergedNeededTime(t *testing.T) {
 	}
 }
 
-// Ensure that unusable histories fail with a reason.
-func TestAnalyzeFailed(t *testing.T) {
+// Ensure that unusable histories get the verdict that says why, and a
+// message: no data, a diverged run (failed), too short to judge (with the
+// time still needed), or a start time beyond the history.
+func TestAnalyzeUnusable(t *testing.T) {
 	nan := seq(500)
 	nan[300] = math.NaN()
 	late := 1e9
 	cases := []struct {
-		name string
-		t, y []float64
-		opts Options
-		msg  string
+		name    string
+		t, y    []float64
+		opts    Options
+		verdict Verdict
+		msg     string
 	}{
-		{"empty", nil, nil, Options{}, "no data"},
-		{"one", []float64{0}, []float64{1}, Options{}, "too short"},
-		{"nan", seq(500), nan, Options{}, "non-finite"},
-		{"short", seq(60), ar1(rand.New(rand.NewPCG(7, 7)), 60, 0.5, 1), Options{}, "too short"},
-		{"start", seq(500), ar1(rand.New(rand.NewPCG(8, 8)), 500, 0.5, 1), Options{Start: &late}, "after the last sample"},
-		{"correlated", seq(2000), ar1(rand.New(rand.NewPCG(9, 9)), 2000, 0.995, 1), Options{}, "correlation times"},
+		{"empty", nil, nil, Options{}, NoData, "no data"},
+		{"one", []float64{0}, []float64{1}, Options{}, TooShort, "spanning no time"},
+		{"nan", seq(500), nan, Options{}, Failed, "non-finite value at sample 301: the run diverged"},
+		{"short", seq(60), ar1(rand.New(rand.NewPCG(7, 7)), 60, 0.5, 1), Options{}, TooShort, "too short to judge: "},
+		{"start", seq(500), ar1(rand.New(rand.NewPCG(8, 8)), 500, 0.5, 1), Options{Start: &late}, TooShort, "after the last sample"},
+		{"correlated", seq(2000), ar1(rand.New(rand.NewPCG(9, 9)), 2000, 0.995, 1), Options{}, TooShort, "correlation times"},
 	}
 	for _, c := range cases {
 		r := Analyze(c.t, c.y, c.opts)
-		if r.Verdict != Failed || !strings.Contains(r.Message, c.msg) {
-			t.Errorf("%s: verdict %s, message %q, want failed with %q", c.name, r.Verdict, r.Message, c.msg)
+		if r.Verdict != c.verdict || !strings.Contains(r.Message, c.msg) {
+			t.Errorf("%s: verdict %s, message %q, want %s with %q", c.name, r.Verdict, r.Message, c.verdict, c.msg)
+		}
+		if !math.IsNaN(r.HalfWidth) {
+			t.Errorf("%s: half-width %v for an unusable history, want NaN (unknown)", c.name, r.HalfWidth)
+		}
+		if c.verdict == TooShort && c.name != "one" && c.name != "start" && !(r.ExtraTime > 0) {
+			t.Errorf("%s: too short but no time asked for (%v)", c.name, r.ExtraTime)
 		}
 	}
 }

@@ -21,7 +21,24 @@ type Quantity struct {
 	Spec      harvest.Quantity
 	Opts      harvest.Options
 	Line      int
+	// From, for a statistic of another quantity's cycles (declared with
+	// statistics = [...] on that quantity), names that quantity, and
+	// Stat the statistic (see Statistics); the quantity is then named
+	// From_Stat and has no history of its own.
+	From, Stat string
+	// Strouhal holds the reference length and speed of a Strouhal number,
+	// St = f L / U.
+	Strouhal struct{ Length, Speed float64 }
 }
+
+// Statistics are the statistics of a quantity's developed cycles a
+// recipe may ask for: the mean of the cycle maxima and minima, the
+// amplitude (maximum − minimum), the rms of the fluctuation, the
+// frequency (in 1/time units) and the Strouhal number f L / U.
+var Statistics = []string{"max", "min", "amplitude", "rms", "frequency", "strouhal"}
+
+// Derived reports whether the quantity is a statistic of another one.
+func (q *Quantity) Derived() bool { return q.From != "" }
 
 // Direction says which values of a quantity are better.
 type Direction int
@@ -83,6 +100,11 @@ type rawQuantity struct {
 	Tolerance    float64  `toml:"tolerance"`
 	RelTolerance float64  `toml:"relative_tolerance"`
 	Start        *float64 `toml:"start"`
+	Statistics   []string `toml:"statistics"`
+	Strouhal     *struct {
+		Length *float64 `toml:"length"`
+		Speed  *float64 `toml:"speed"`
+	} `toml:"strouhal"`
 }
 
 type rawScale struct {
@@ -171,7 +193,75 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 		}
 		q.Opts = harvest.Options{Abs: max(rq.Tolerance, 0), Rel: max(rq.RelTolerance, 0), Start: rq.Start}
 		r.Quantities = append(r.Quantities, q)
+		for _, d := range derivedQuantities(pr, key, q, rq) {
+			if seen[d.Name] {
+				pr.at(key+".statistics", "quantity %q: its statistic %q is named %q, which another quantity is already called; rename one", rq.Name, d.Stat, d.Name)
+			}
+			seen[d.Name] = true
+			r.Quantities = append(r.Quantities, d)
+		}
 	}
+}
+
+// derivedQuantities reads a quantity's statistics = [...] and strouhal =
+// {length, speed}, and returns one quantity per statistic, named
+// <quantity>_<statistic>, judged with the quantity's relative tolerance.
+func derivedQuantities(pr *problems, key string, q Quantity, rq rawQuantity) []Quantity {
+	var out []Quantity
+	wantSt := false
+	seen := map[string]bool{}
+	for j, st := range rq.Statistics {
+		at := fmt.Sprintf("%s.statistics[%d]", key, j)
+		if !slices.Contains(Statistics, st) {
+			pr.at(at, "quantity %q: unknown statistic %q: use %s", rq.Name, st, strings.Join(Statistics, ", "))
+			continue
+		}
+		if seen[st] {
+			pr.at(at, "quantity %q lists the statistic %q twice", rq.Name, st)
+			continue
+		}
+		seen[st] = true
+		d := Quantity{Name: rq.Name + "_" + st, From: rq.Name, Stat: st, Line: q.Line,
+			Opts: harvest.Options{Rel: q.Opts.Rel, Confidence: q.Opts.Confidence}}
+		switch st {
+		case "max", "min", "amplitude", "rms":
+			d.Unit = q.Unit
+			d.Opts.Abs = q.Opts.Abs
+		case "frequency":
+			d.Unit = "1/time"
+		case "strouhal":
+			wantSt = true
+		}
+		if d.Opts.Abs == 0 && d.Opts.Rel == 0 {
+			d.Opts.Rel = 0.01
+		}
+		out = append(out, d)
+	}
+	switch {
+	case wantSt && rq.Strouhal == nil:
+		pr.at(key+".statistics", "quantity %q asks for the strouhal statistic: add strouhal = { length = L, speed = U }, the reference length and speed of St = f L / U", rq.Name)
+	case !wantSt && rq.Strouhal != nil:
+		pr.at(key+".strouhal", "quantity %q has strouhal = {...} but does not list \"strouhal\" in statistics; add it, or remove the table", rq.Name)
+	case wantSt:
+		var l, u float64
+		for name, v := range map[string]**float64{"length": &rq.Strouhal.Length, "speed": &rq.Strouhal.Speed} {
+			if *v == nil || !(**v > 0) || math.IsInf(**v, 0) {
+				pr.at(key+".strouhal", "quantity %q: strouhal needs %s = a number above 0 (the reference %s of St = f L / U)", rq.Name, name, name)
+			}
+		}
+		if rq.Strouhal.Length != nil {
+			l = *rq.Strouhal.Length
+		}
+		if rq.Strouhal.Speed != nil {
+			u = *rq.Strouhal.Speed
+		}
+		for i := range out {
+			if out[i].Stat == "strouhal" {
+				out[i].Strouhal.Length, out[i].Strouhal.Speed = l, u
+			}
+		}
+	}
+	return out
 }
 
 // checkScale reads a quantity's scale. Every number given must be finite
@@ -217,8 +307,10 @@ func checkSettle(pr *problems, r *Recipe, key string, s *Stage, raw *rawSettle) 
 		pr.at(key, "stage %q: [stage.settle] needs quantities = [\"...\"], the quantities whose averages must settle", s.Name)
 	}
 	for _, name := range es.Quantities {
-		if r.Quantity(name) == nil {
+		if q := r.Quantity(name); q == nil {
 			pr.at(key+".quantities", "stage %q: [stage.settle] names %q, which is not a declared [[quantity]]", s.Name, name)
+		} else if q.Derived() {
+			pr.at(key+".quantities", "stage %q: [stage.settle] names %q, a statistic of %q; name %q itself (its cycles settle with it)", s.Name, name, q.From, q.From)
 		}
 	}
 	if raw.Every != "" {

@@ -506,3 +506,41 @@ func TestLoadLevelsAndBetter(t *testing.T) {
 		t.Errorf("lift: %+v", l)
 	}
 }
+
+// Ensure that statistics = [...] on a quantity declares one quantity per
+// statistic of its cycles, named quantity_statistic, that a Strouhal
+// number needs its reference length and speed, and that mistakes are
+// refused at their line.
+func TestLoadStatistics(t *testing.T) {
+	head := "[case]\nbase = \"template\"\n[[param]]\nname = \"r\"\nmin = 0\nmax = 1\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"
+	good := head + "[[quantity]]\nname = \"lift\"\nfiles = \"f\"\nvalue = 3\ntolerance = 0.01\nstatistics = [\"max\", \"rms\", \"strouhal\"]\nstrouhal = { length = 0.1, speed = 1.5 }\n"
+	r, err := Load(writeStudy(t, good))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, q := range r.Quantities {
+		names = append(names, q.Name)
+	}
+	if strings.Join(names, ",") != "lift,lift_max,lift_rms,lift_strouhal" {
+		t.Fatalf("quantities %v", names)
+	}
+	st := r.Quantity("lift_strouhal")
+	if !st.Derived() || st.From != "lift" || st.Stat != "strouhal" || st.Strouhal.Length != 0.1 || st.Strouhal.Speed != 1.5 {
+		t.Errorf("strouhal quantity %+v", st)
+	}
+	if mx := r.Quantity("lift_max"); mx.Opts.Abs != 0.01 {
+		t.Errorf("the maximum keeps its quantity's absolute tolerance (same unit): %+v", mx.Opts)
+	}
+	for _, c := range []struct{ text, want string }{
+		{"statistics = [\"peak\"]\n", `study.toml:16: quantity "lift": unknown statistic "peak": use max, min, amplitude, rms, frequency, strouhal`},
+		{"statistics = [\"strouhal\"]\n", `study.toml:16: quantity "lift" asks for the strouhal statistic: add strouhal = { length = L, speed = U }, the reference length and speed of St = f L / U`},
+		{"statistics = [\"max\"]\nstrouhal = { length = 1, speed = 1 }\n", `study.toml:17: quantity "lift" has strouhal = {...} but does not list "strouhal" in statistics; add it, or remove the table`},
+		{"statistics = [\"strouhal\"]\nstrouhal = { length = 0, speed = 1 }\n", `study.toml:17: quantity "lift": strouhal needs length = a number above 0 (the reference length of St = f L / U)`},
+	} {
+		_, err := Load(writeStudy(t, head+"[[quantity]]\nname = \"lift\"\nfiles = \"f\"\nvalue = 3\n"+c.text))
+		if err == nil || err.Error() != c.want {
+			t.Errorf("got %v\nwant %s", err, c.want)
+		}
+	}
+}

@@ -157,17 +157,19 @@ func sortedKV(m map[string]string, order []string) []kv {
 }
 
 // verdictClass maps a verdict word to a CSS class: good, warn or bad.
+// verdictClass colours a verdict: usable (converged, steady), to be run
+// longer (not_converged, too_short, drifting, running), or without a
+// value (failed, no_data).
 func verdictClass(v string) string {
-	l := strings.ToLower(v)
-	switch {
-	case l == "":
+	switch v {
+	case "":
 		return ""
-	case strings.Contains(l, "fail"), strings.Contains(l, "not"), strings.Contains(l, "diverg"), strings.Contains(l, "error"):
-		return "bad"
-	case strings.Contains(l, "warn"), strings.Contains(l, "drift"), strings.Contains(l, "short"), strings.Contains(l, "uncertain"), strings.Contains(l, "caution"):
-		return "warn"
-	default:
+	case "converged", "steady":
 		return "good"
+	case "failed", "no_data":
+		return "bad"
+	default:
+		return "warn"
 	}
 }
 

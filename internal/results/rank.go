@@ -75,8 +75,8 @@ func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string) Ra
 		case !ok:
 			rk.Excluded = append(rk.Excluded, Excluded{v.Label, "not harvested (" + string(v.State) + ")"})
 			continue
-		case res.Verdict == harvest.Failed:
-			rk.Excluded = append(rk.Excluded, Excluded{v.Label, "failed: " + res.Message})
+		case !HasInterval(res):
+			rk.Excluded = append(rk.Excluded, Excluded{v.Label, string(res.Verdict) + ": " + res.Message})
 			continue
 		}
 		byLabel[v.Label] = v
@@ -122,4 +122,15 @@ func (rk *Ranking) ApplyMesh(gciRel float64) {
 			rk.Rows[i].BeyondMesh = &beyond
 		}
 	}
+}
+
+// HasInterval reports whether a result has a mean with an honest interval,
+// so that it can be ranked and compared: converged, steady, or
+// not_converged (a wide interval is still an honest one).
+func HasInterval(r harvest.Result) bool {
+	switch r.Verdict {
+	case harvest.Converged, harvest.Steady, harvest.NotConverged:
+		return !math.IsNaN(r.Mean) && !math.IsNaN(r.StdError)
+	}
+	return false
 }

@@ -3,6 +3,7 @@ package results
 import (
 	"context"
 	"fmt"
+	"math"
 	"runtime"
 	"sync"
 	"time"
@@ -30,18 +31,33 @@ type Variant struct {
 // Progress receives harvest progress.
 type Progress func(done, total int)
 
+// Options control Harvest.
+type Options struct {
+	// Progress receives progress; nil for none.
+	Progress Progress
+	// IncludeRunning records the preliminary averages of variants whose
+	// stages still run, in the database and the summary files; by
+	// default those keep what the variant's last finished harvest gave.
+	IncludeRunning bool
+}
+
 // Harvest reads the histories of every variant that has run or runs now,
-// analyses each quantity of the recipe, records the results in the study
-// database and writes results/summary.json and results/summary.csv. It
-// returns all variants of the study, in label order; variants that never
-// ran have no results.
-func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, p Progress) ([]Variant, error) {
+// judges each quantity of the recipe (see Judge), records the results in
+// the study database and writes results/summary.json and
+// results/summary.csv. It returns all variants of the study, in label
+// order (variants that never ran have no results), and the labels of
+// those still running.
+func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, opts Options) ([]Variant, []string, error) {
 	if len(r.Quantities) == 0 {
-		return nil, fmt.Errorf("%w: %s declares no [[quantity]]; add one saying which history files and column to read", recipe.ErrInvalid, recipe.FileName)
+		return nil, nil, fmt.Errorf("%w: %s declares no [[quantity]]; add one saying which history files and column to read", recipe.ErrInvalid, recipe.FileName)
 	}
 	rep, err := runner.Status(st, r.Name)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
+	}
+	prev, err := Load(r, st)
+	if err != nil {
+		return nil, nil, err
 	}
 	vs := make([]Variant, len(rep.Variants))
 	var todo []int
@@ -60,18 +76,12 @@ func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, p Progress)
 		go func() {
 			defer wg.Done()
 			for i := range work {
-				res := make(map[string]harvest.Result, len(r.Quantities))
-				dir := plan.Dir(r.Dir, vs[i].Label)
-				for _, q := range r.Quantities {
-					hr, _ := harvest.Harvest(dir, q.Spec, q.Opts) // a read error is a failed Result
-					res[q.Name] = hr
-				}
-				vs[i].Results = res
+				vs[i].Results = Judge(r, plan.Dir(r.Dir, vs[i].Label), rep.Variants[i])
 				vs[i].Harvested = time.Now().UTC()
 				mu.Lock()
 				done++
-				if p != nil {
-					p(done, len(todo))
+				if opts.Progress != nil {
+					opts.Progress(done, len(todo))
 				}
 				mu.Unlock()
 			}
@@ -86,11 +96,22 @@ func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, p Progress)
 	close(work)
 	wg.Wait()
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return nil, nil, err
+	}
+	var running []string
+	keep := make([]Variant, len(vs)) // what the database and the summary get
+	copy(keep, vs)
+	for i, v := range vs {
+		if v.State == store.Running || (v.State == store.Pending && v.Results != nil) {
+			running = append(running, v.Label)
+			if !opts.IncludeRunning {
+				keep[i].Results, keep[i].Harvested = prev[i].Results, prev[i].Harvested
+			}
+		}
 	}
 	err = st.Update(func(tx *store.Tx) error {
-		for _, v := range vs {
-			if v.Results != nil {
+		for i, v := range keep {
+			if v.Results != nil && !v.Harvested.Equal(prev[i].Harvested) {
 				if err := tx.PutResults(v.Seq, store.Results{Harvested: v.Harvested, Quantities: v.Results}); err != nil {
 					return err
 				}
@@ -99,12 +120,70 @@ func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, p Progress)
 		return nil
 	})
 	if err != nil {
-		return nil, fmt.Errorf("record results: %w", err)
+		return nil, nil, fmt.Errorf("record results: %w", err)
 	}
-	if err := writeSummary(r, vs); err != nil {
-		return nil, err
+	if err := writeSummary(r, keep); err != nil {
+		return nil, nil, err
 	}
-	return vs, nil
+	return vs, running, nil
+}
+
+// Judge harvests one variant's histories in dir and judges every quantity
+// of the recipe, with the one rule every command uses:
+//
+//   - a variant whose stage failed gets the verdict failed, with the
+//     stage's reason;
+//   - a variant whose stages have not all ended gets running, with the
+//     preliminary figures of its histories so far;
+//   - a finished variant gets the verdict of its histories (see
+//     harvest.Analyze). If a stage was stopped once its averages settled,
+//     each quantity is averaged up to the time the stop judged it
+//     (store.Job.SettledAt), so the verdict is the one the stop gave.
+//
+// Statistics of a quantity's cycles (recipe.Quantity.Derived) are judged
+// from their quantity's result.
+func Judge(r *recipe.Recipe, dir string, v runner.VariantStatus) map[string]harvest.Result {
+	settledAt := map[string]float64{}
+	last := math.Inf(-1)
+	failedStage, failedWhy := "", ""
+	for _, j := range v.Jobs {
+		for q, t := range j.SettledAt {
+			settledAt[q] = t
+			last = math.Max(last, t)
+		}
+		if j.State == store.Failed && failedStage == "" {
+			failedStage, failedWhy = j.Stage, j.Reason
+		}
+	}
+	res := make(map[string]harvest.Result, len(r.Quantities))
+	for _, q := range r.Quantities {
+		if q.Derived() {
+			continue
+		}
+		o := q.Opts
+		if t, ok := settledAt[q.Name]; ok {
+			o.End = &t
+		} else if len(settledAt) > 0 {
+			o.End = &last
+		}
+		hr, _ := harvest.Harvest(dir, q.Spec, o) // a read error is a verdict of its own
+		switch {
+		case v.State == store.Failed:
+			hr.Verdict = harvest.Failed
+			hr.Message = fmt.Sprintf("the %s stage failed: %s", failedStage, failedWhy)
+			hr.Mean, hr.HalfWidth, hr.StdError = math.NaN(), math.NaN(), math.NaN()
+		case v.State != store.Done:
+			hr.Message = fmt.Sprintf("still running; so far %s: %s", hr.Verdict, hr.Message)
+			hr.Verdict = harvest.Running
+		}
+		res[q.Name] = hr
+	}
+	for _, q := range r.Quantities {
+		if q.Derived() {
+			res[q.Name] = res[q.From].Derived(q.Stat, q.Opts, q.Strouhal.Length, q.Strouhal.Speed)
+		}
+	}
+	return res
 }
 
 // started reports whether a variant has a stage that ran or runs.

@@ -102,7 +102,7 @@ func setup(t *testing.T, means []float64) (*recipe.Recipe, *store.Store) {
 func TestHarvestAndRank(t *testing.T) {
 	means := []float64{1.100, 1.000, 1.0002}
 	r, st := setup(t, means)
-	vs, err := Harvest(context.Background(), r, st, nil)
+	vs, _, err := Harvest(context.Background(), r, st, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -170,7 +170,7 @@ func TestHarvestNaN(t *testing.T) {
 	f, _ := os.OpenFile(p, os.O_APPEND|os.O_WRONLY, 0)
 	fmt.Fprintln(f, "20000 nan 0")
 	f.Close()
-	vs, err := Harvest(context.Background(), r, st, nil)
+	vs, _, err := Harvest(context.Background(), r, st, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -58,7 +59,14 @@ func writeSummary(r *recipe.Recipe, vs []Variant) error {
 	return WriteAtomic(filepath.Join(dir, "summary.csv"), buf.Bytes())
 }
 
-func num(x float64) string { return strconv.FormatFloat(x, 'g', 10, 64) }
+// num writes a figure for CSV: full precision, and an empty cell for an
+// unknown (NaN) one, so a spreadsheet reads it as missing, not as 0.
+func num(x float64) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(x, 'g', 10, 64)
+}
 
 // WriteAtomic replaces path with data so that a reader sees the old file
 // or the new one, never a part: it writes a temporary file in the same

@@ -177,7 +177,7 @@ func (d *dispatcher) loop(ctx context.Context) error {
 				heap.Pop(d.q)
 				d.free -= s.Cores
 				j.State, j.Token, j.PID, j.Cores = store.Running, uuid.NewString(), 0, s.Cores
-				j.Started, j.Ended, j.Reason, j.Settled, j.Stopping = time.Now().UTC(), time.Time{}, "", "", ""
+				j.Started, j.Ended, j.Reason, j.Settled, j.SettledAt, j.Stopping = time.Now().UTC(), time.Time{}, "", "", nil, ""
 				a := &active{job: j, vs: vs, stage: s, lastCheck: time.Now()}
 				if s.Timeout > 0 {
 					a.deadline = time.Now().Add(s.Timeout)

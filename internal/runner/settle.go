@@ -11,6 +11,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/plan"
+	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -20,6 +21,8 @@ type check struct {
 	stop   bool
 	reason string // why it may stop, or why not yet
 	err    error  // a history that cannot be read (a diverged run, say)
+	// at is the last time of each quantity's history that was judged.
+	at map[string]float64
 }
 
 // nextCheck is when the job's averages are next analysed (zero: never).
@@ -42,29 +45,37 @@ func (d *dispatcher) startChecks(now time.Time) {
 		dir := plan.Dir(d.r.Dir, a.vs.v.Label)
 		es := a.stage.Settle
 		go func(tok string) {
-			c := check{token: tok, stop: true}
-			var parts []string
-			for _, name := range es.Quantities {
-				q := d.r.Quantity(name)
-				opts := q.Opts
-				opts.MinSamples = es.MinSamples
-				stop, res, err := harvest.Settled(dir, q.Spec, opts)
-				if err != nil {
-					c.stop, c.err = false, err
-					break
-				}
-				if !stop {
-					c.stop = false
-					parts = append(parts, fmt.Sprintf("%s %s", name, res.Verdict))
-					break
-				}
-				parts = append(parts, fmt.Sprintf("%s %s: %.6g ± %.2g (tolerance %.2g) at t = %.6g",
-					name, res.Verdict, res.Mean, res.HalfWidth, res.Tolerance, res.EndTime))
-			}
-			c.reason = strings.Join(parts, "; ")
+			c := settleCheck(d.r, dir, es)
+			c.token = tok
 			d.checks <- c
 		}(tok)
 	}
+}
+
+// settleCheck judges the settle quantities of a running job's histories
+// in dir with the quantities' own options (the judge that harvest uses),
+// and says whether all have settled.
+func settleCheck(r *recipe.Recipe, dir string, es *recipe.Settle) check {
+	c := check{stop: true, at: map[string]float64{}}
+	var parts []string
+	for _, name := range es.Quantities {
+		q := r.Quantity(name)
+		stop, res, err := harvest.Settled(dir, q.Spec, q.Opts, es.MinSamples)
+		if err != nil {
+			c.stop, c.err = false, err
+			break
+		}
+		if !stop {
+			c.stop = false
+			parts = append(parts, fmt.Sprintf("%s %s", name, res.Verdict))
+			break
+		}
+		c.at[name] = res.EndTime
+		parts = append(parts, fmt.Sprintf("%s %s: %.6g ± %.2g (tolerance %.2g) at t = %.6g",
+			name, res.Verdict, res.Mean, res.HalfWidth, res.Tolerance, res.EndTime))
+	}
+	c.reason = strings.Join(parts, "; ")
+	return c
 }
 
 // onCheck acts on a finished check: a job whose averages settled gets
@@ -83,6 +94,7 @@ func (d *dispatcher) onCheck(c check) *store.Job {
 	}
 	es := a.stage.Settle
 	a.job.Settled = "stopped early: " + c.reason
+	a.job.SettledAt = c.at
 	a.job.Stopping = store.StopSettle
 	// Give the solver the grace period to end by itself; then the usual
 	// stop (SIGTERM, SIGKILL) applies.

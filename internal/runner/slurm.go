@@ -15,7 +15,6 @@ import (
 
 	"github.com/google/uuid"
 
-	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
@@ -460,21 +459,15 @@ func (sr *slurmRun) settleCheck(a *active, vdir string) {
 		return
 	}
 	a.lastCheck = time.Now()
-	var parts []string
-	for _, name := range es.Quantities {
-		q := sr.d.r.Quantity(name)
-		o := q.Opts
-		o.MinSamples = es.MinSamples
-		stop, res, err := harvest.Settled(vdir, q.Spec, o)
-		if err != nil || !stop {
-			return
-		}
-		parts = append(parts, fmt.Sprintf("%s %s: %.6g ± %.2g (tolerance %.2g) at t = %.6g", name, res.Verdict, res.Mean, res.HalfWidth, res.Tolerance, res.EndTime))
+	c := settleCheck(sr.d.r, vdir, es)
+	if c.err != nil || !c.stop {
+		return
 	}
-	a.job.Settled = "stopped early: " + strings.Join(parts, "; ")
+	a.job.Settled = "stopped early: " + c.reason
+	a.job.SettledAt = c.at
 	a.job.Stopping = store.StopSettle
 	if err := sr.d.commit([]*store.Job{a.job}); err != nil {
-		a.job.Settled, a.job.Stopping = "", ""
+		a.job.Settled, a.job.SettledAt, a.job.Stopping = "", nil, ""
 		sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: cannot record that its averages settled (%v); it runs on", a.vs.v.Label, a.stage.Name, err))
 		return
 	}
@@ -494,7 +487,7 @@ func (sr *slurmRun) settleCheck(a *active, vdir string) {
 		sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: the settle stop failed: %v", a.vs.v.Label, a.stage.Name, err))
 		return
 	}
-	sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: averages converged, stopping it (%s)", a.vs.v.Label, a.stage.Name, strings.Join(parts, "; ")))
+	sr.d.opts.Progress.Event(fmt.Sprintf("%s %s: averages converged, stopping it (%s)", a.vs.v.Label, a.stage.Name, c.reason))
 }
 
 // CancelSlurm cancels every job of the study that is in Slurm (one scancel

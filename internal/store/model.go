@@ -67,6 +67,10 @@ type Job struct {
 	// Settled says why the run was stopped early once its averages had
 	// converged ("" when it ran to its own end).
 	Settled string `json:"early_stop,omitempty"`
+	// SettledAt is, for a run stopped because its averages settled, the
+	// last time of each quantity's history that was judged: a later
+	// harvest averages up to there, so it judges what the stop judged.
+	SettledAt map[string]float64 `json:"settled_at,omitempty"`
 	// Stopping is the runner's reason for stopping the current run,
 	// committed before the stop is sent: StopInterrupt, StopTimeout or
 	// StopSettle ("" while it runs on its own). An end the executor
