@@ -4,6 +4,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
+	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -30,16 +33,20 @@ func newFitCmd() *cobra.Command {
 		Use:   "fit [DIR]",
 		Short: "Fit a response surface through the averaged results; find the optimum",
 		Long: `fit harvests the study (see harvest) and fits a response surface of one
-quantity (--quantity; default the objective) over the numeric parameters:
-a polynomial by least squares (quadratic by default; linear, interactions,
-or any terms with --terms "1, a, b, a*b, a^2") or kriging (Gaussian-process
-regression with each run's own uncertainty as its noise). Only converged or
+quantity (--quantity; default the objective) over the numeric parameters
+(in log10 of those declared log = true). By default it fits every model
+the runs can support (linear, interactions, quadratic polynomials by
+weighted least squares, and kriging, a Gaussian-process regression with
+each run's own uncertainty as its noise) and keeps the simplest whose
+leave-one-out error is within the runs' own noise of the smallest, saying
+so; --model or --terms "1, a, b, a*b, a^2" forces one. Only converged or
 steady variants are used; the others are listed.
 
 It prints the model, its leave-one-out error beside the runs' own
 uncertainty (a surface whose error is far above the noise is flagged), the
 optimum within the bounds (and the recipe's constraints) with its 95 %
-interval, and the parameters' Sobol' sensitivity indices.
+interval, compared with the best measured run, the parameters' Sobol'
+sensitivity indices, and for one parameter the fitted curve.
 
 fit --table FILE.csv --response COLUMN fits a plain table instead (one
 column per parameter plus the response), for results from elsewhere.`,
@@ -49,7 +56,7 @@ column per parameter plus the response), for results from elsewhere.`,
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&opts.model, "model", "quadratic", "the surface: "+strings.Join(fit.Models, ", "))
+	f.StringVar(&opts.model, "model", "auto", "the surface: auto (chosen by leave-one-out error), or "+strings.Join(fit.Models, ", "))
 	f.StringVar(&opts.quantity, "quantity", "", "the quantity to fit (default: the recipe's objective)")
 	f.StringVar(&opts.terms, "terms", "", `polynomial terms, e.g. "1, x, x^2, x^3" (overrides --model)`)
 	f.StringVar(&opts.table, "table", "", "fit this CSV table instead of a study")
@@ -86,16 +93,16 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 		}
 		defer h.st.Close()
 		r, q, vs := h.r, h.q, h.vs
-		d, cols, left, err := fit.StudyData(r, vs, q.Name)
+		in, err := fit.StudyData(r, vs, q.Name)
 		if err != nil {
 			return err
 		}
-		rep, err = fit.Fit(d, fit.Options{Model: opts.model, Terms: opts.terms, Maximize: !q.LowerIsBetter(),
-			Feasible: fit.Feasible(r, cols, vs), Seed: opts.seed})
+		rep, err = fit.Fit(in.Data, in.Options(fit.Options{Model: opts.model, Terms: opts.terms, Maximize: !q.LowerIsBetter(),
+			Feasible: fit.Feasible(r, in.Cols, vs), Seed: opts.seed}))
 		if err != nil {
 			return fmt.Errorf("fit %s: %w", q.Name, err)
 		}
-		rep.Response, rep.LeftOut = q.Name, left
+		rep.Response, rep.LeftOut = q.Name, in.Left
 	}
 	if opts.json {
 		return ui.JSON(cmd.OutOrStdout(), rep)
@@ -118,7 +125,12 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 }
 
 func printFit(w io.Writer, rep *fit.Report) {
-	fmt.Fprintf(w, "%s surface of %s over %s, %d runs\n\n", rep.Model, rep.Response, strings.Join(rep.Params, ", "), rep.Runs)
+	scale := ""
+	if len(rep.LogParams) > 0 {
+		scale = " (in log10 of " + strings.Join(rep.LogParams, ", ") + ")"
+	}
+	fmt.Fprintf(w, "%s surface of %s over %s%s, %d runs\n", rep.Model, rep.Response, strings.Join(rep.Params, ", "), scale, rep.Runs)
+	fmt.Fprintf(w, "model %s\n\n", rep.Choice)
 	if len(rep.Terms) > 0 {
 		rows := [][]string{{"term", "coefficient", "std. error"}}
 		for _, t := range rep.Terms {
@@ -142,20 +154,58 @@ func printFit(w io.Writer, rep *fit.Report) {
 	if rep.Flag != "" {
 		fmt.Fprintln(w, "WARNING:", rep.Flag)
 	}
+	if len(rep.Curve) > 0 {
+		fmt.Fprintf(w, "\n%s against %s (95%% interval of the fitted mean; * marks a run):\n", rep.Response, rep.Params[0])
+		rows := [][]string{{rep.Params[0], rep.Response, ""}}
+		for i, c := range rep.Curve {
+			if i%5 != 0 {
+				continue
+			}
+			rows = append(rows, []string{ui.Number(c.X), ui.PlusMinus(c.Mean, c.HalfWidth), ""})
+		}
+		for i, x := range rep.Data.X {
+			se := math.NaN()
+			if rep.Data.SE != nil {
+				se = 1.959964 * rep.Data.SE[i]
+			}
+			rows = append(rows, []string{ui.Number(x[0]), ui.PlusMinus(rep.Data.Y[i], se), "* run"})
+		}
+		sort.SliceStable(rows[1:], func(a, b int) bool {
+			xa, _ := strconv.ParseFloat(rows[1+a][0], 64)
+			xb, _ := strconv.ParseFloat(rows[1+b][0], 64)
+			return xa < xb
+		})
+		ui.Table(w, rows)
+	}
 	if o := rep.Optimum; o != nil {
-		fmt.Fprintf(w, "\noptimum: %s = %s (95%% interval of the predicted mean)\n", rep.Response, ui.PlusMinus(o.Value, o.HalfWidth))
+		what := "the surface's optimum; 95% interval of the predicted mean"
+		if o.Source != "surface" {
+			what = o.Source + ", measured; 95% interval of its average"
+		}
+		fmt.Fprintf(w, "\noptimum: %s = %s (%s)\n", rep.Response, ui.PlusMinus(o.Value, o.HalfWidth), what)
 		for _, n := range rep.Params {
 			fmt.Fprintf(w, "  %s = %.5g\n", n, o.Params[n])
+		}
+		if b := rep.Best; b != nil && o.Source == "surface" {
+			label := ""
+			if b.Label != "" {
+				label = " (" + b.Label + ")"
+			}
+			var at []string
+			for _, n := range rep.Params {
+				at = append(at, fmt.Sprintf("%s = %.5g", n, b.Params[n]))
+			}
+			fmt.Fprintf(w, "  best measured run%s: %s at %s\n", label, ui.PlusMinus(b.Value, b.HalfWidth), strings.Join(at, ", "))
 		}
 		for _, warn := range o.Warnings {
 			fmt.Fprintln(w, "  note:", warn)
 		}
 	}
 	if len(rep.Sensitivities) > 0 {
-		fmt.Fprintln(w, "\nsensitivities (Sobol' indices on the surface, over the parameter bounds):")
-		rows := [][]string{{"parameter", "main effect", "total effect"}}
+		fmt.Fprintln(w, "\nsensitivities (Sobol' indices on the surface, over the parameter bounds; ± one standard error):")
+		rows := [][]string{{"parameter", "main effect", "total effect", ""}}
 		for _, s := range rep.Sensitivities {
-			rows = append(rows, []string{s.Param, fmt.Sprintf("%.3f ± %.3f", s.First, s.FirstSE), fmt.Sprintf("%.3f ± %.3f", s.Total, s.TotalSE)})
+			rows = append(rows, []string{s.Param, fmt.Sprintf("%.3f ± %.3f", s.First, s.FirstSE), fmt.Sprintf("%.3f ± %.3f", s.Total, s.TotalSE), s.Note})
 		}
 		ui.Table(w, rows)
 	}

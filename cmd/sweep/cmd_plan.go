@@ -119,14 +119,14 @@ func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions)
 	if err != nil {
 		return nil, err
 	}
-	d, cols, _, err := fit.StudyData(r, vs, q.Name)
+	in, err := fit.StudyData(r, vs, q.Name)
 	if err != nil {
 		return nil, err
 	}
-	if len(d.Y) < 3 {
-		return nil, fmt.Errorf("--add needs at least 3 converged variants to fit a surface (the study has %d); run the design first", len(d.Y))
+	if len(in.Data.Y) < 3 {
+		return nil, fmt.Errorf("--add needs at least 3 converged variants to fit a surface (the study has %d); run the design first", len(in.Data.Y))
 	}
-	pts, _, err := fit.Next(r, d, cols, vs, opts.add, opts.criterion, !q.LowerIsBetter(), opts.seed)
+	pts, _, err := fit.Next(r, in, vs, opts.add, opts.criterion, !q.LowerIsBetter(), opts.seed)
 	if err != nil {
 		return nil, err
 	}

@@ -166,17 +166,14 @@ func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st 
 // parameters, the others at the optimum. It returns nil when no surface
 // can be fitted.
 func reportSurface(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant) *report.Surface {
-	d, cols, _, err := fit.StudyData(r, vs, q.Name)
-	if err != nil || len(d.Y) < 4 {
+	in, err := fit.StudyData(r, vs, q.Name)
+	if err != nil || len(in.Data.Y) < 3 {
 		return nil
 	}
-	opts := fit.Options{Maximize: !q.LowerIsBetter(), Feasible: fit.Feasible(r, cols, vs), Seed: 1}
-	fr, err := fit.Fit(d, opts)
+	d := in.Data
+	fr, err := fit.Fit(d, in.Options(fit.Options{Maximize: !q.LowerIsBetter(), Feasible: fit.Feasible(r, in.Cols, vs), Seed: 1}))
 	if err != nil {
-		opts.Model = "kriging"
-		if fr, err = fit.Fit(d, opts); err != nil {
-			return nil
-		}
+		return nil
 	}
 	sf := &report.Surface{Model: fr.Model, Response: q.Name, LOORMSE: fr.LOORMSE, Noise: fr.Noise, Q2: fr.Q2, Flag: fr.Flag,
 		Observed: fr.Observed, LOOPredicted: fr.LOO}
@@ -212,7 +209,7 @@ func reportSurface(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant) *
 		for i := range n {
 			x := append([]float64(nil), fr.Optimum.X...)
 			x[a], x[b] = c.X[i], c.Y[j]
-			row[i] = fr.Surface.Mean(x)
+			row[i] = fr.Mean(x)
 		}
 		c.Z = append(c.Z, row)
 	}

@@ -34,6 +34,16 @@ func TestExternalSolverCylinder(t *testing.T) {
 	}
 	for _, args := range [][]string{{"plan", dir}, {"run", dir, "-q"}} {
 		if _, errs, code := sweep(t, args...); code != 0 {
+			// The temporary directory goes with the test: show the
+			// solver's own words.
+			logs, _ := filepath.Glob(filepath.Join(dir, "variants", "*", "solve.log"))
+			for _, l := range logs {
+				b, _ := os.ReadFile(l)
+				if len(b) > 4000 {
+					b = b[len(b)-4000:]
+				}
+				t.Logf("%s:\n%s", l, b)
+			}
 			t.Fatalf("%v: %s", args, errs)
 		}
 	}

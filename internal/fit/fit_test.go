@@ -85,24 +85,27 @@ func TestFitFlagsMisfit(t *testing.T) {
 	}
 }
 
-// Ensure that a fit of a study uses only converged or steady variants and
-// lists the others.
+// Ensure that a fit of a study uses the variants with an honest interval
+// (converged, steady, and not_converged with its wider error) and lists
+// the others.
 func TestStudyDataLeavesOut(t *testing.T) {
 	r := &recipe.Recipe{Params: []recipe.Param{{Name: "a", Kind: recipe.Range, Min: 0, Max: 1}, {Name: "s", Kind: recipe.Choice, Choices: []string{"x"}}}}
 	mk := func(label string, a float64, verdict harvest.Verdict) results.Variant {
 		return results.Variant{Label: label, Values: []recipe.Value{recipe.Num(a), recipe.Word("x")},
 			Results: map[string]harvest.Result{"drag": {Verdict: verdict, Mean: a, StdError: 0.01, HalfWidth: 0.02, Dof: 20}}}
 	}
-	vs := []results.Variant{mk("v001", 0.1, harvest.Converged), mk("v002", 0.5, harvest.NotConverged), mk("v003", 0.9, harvest.Steady), {Label: "v004", State: "pending"}}
-	d, cols, left, err := StudyData(r, vs, "drag")
+	short := mk("v005", 0.7, harvest.TooShort)
+	short.Results["drag"] = harvest.Result{Verdict: harvest.TooShort, Mean: 0.7, StdError: math.NaN(), HalfWidth: math.NaN()}
+	vs := []results.Variant{mk("v001", 0.1, harvest.Converged), mk("v002", 0.5, harvest.NotConverged), mk("v003", 0.9, harvest.Steady), {Label: "v004", State: "pending"}, short}
+	in, err := StudyData(r, vs, "drag")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(d.Y) != 2 || len(cols) != 1 || d.Names[0] != "a" {
-		t.Errorf("data %+v cols %v", d, cols)
+	if d := in.Data; len(d.Y) != 3 || len(in.Cols) != 1 || d.Names[0] != "a" || strings.Join(in.Labels, ",") != "v001,v002,v003" {
+		t.Errorf("data %+v cols %v labels %v", d, in.Cols, in.Labels)
 	}
-	if len(left) != 2 || left[0].Label != "v002" || left[1].Label != "v004" {
-		t.Errorf("left out %+v", left)
+	if len(in.Left) != 2 || in.Left[0].Label != "v004" || in.Left[1].Label != "v005" {
+		t.Errorf("left out %+v", in.Left)
 	}
 }
 

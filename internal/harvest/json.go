@@ -105,6 +105,7 @@ type resultJSON struct {
 	RMS              Statistic   `json:"rms"`
 	Last             jnum        `json:"last"`
 	Drift            jnum        `json:"drift"`
+	Resolution       jnum        `json:"resolution"`
 	ExtraTime        jnum        `json:"extra_time"`
 	ExtraCapped      bool        `json:"extra_capped,omitempty"`
 	Files            []string    `json:"files,omitempty"`
@@ -118,7 +119,7 @@ func (r Result) MarshalJSON() ([]byte, error) {
 		jnum(r.Confidence), jnum(r.Tolerance), jnum(r.Scale), r.Samples, jnum(r.TauInt), jnum(r.EffectiveSamples),
 		jnum(r.CorrelationTime), r.Method, r.Batches, r.BatchSize, jnum(r.TransientEnd), r.TransientMethod,
 		jnum(r.EndTime), jnum(r.TimeStep), r.Resampled, jnum(r.Period), r.Periods, r.Cycle, r.RMS, jnum(r.Last),
-		jnum(r.Drift), jnum(r.ExtraTime), r.ExtraCapped, r.Files, r.Overlaps, r.Notes})
+		jnum(r.Drift), jnum(r.Resolution), jnum(r.ExtraTime), r.ExtraCapped, r.Files, r.Overlaps, r.Notes})
 }
 
 // UnmarshalJSON reads what MarshalJSON writes; a missing number is NaN.
@@ -126,7 +127,7 @@ func (r *Result) UnmarshalJSON(b []byte) error {
 	nan := jnum(math.NaN())
 	w := resultJSON{Mean: nan, HalfWidth: nan, StdError: nan, Dof: nan, Confidence: nan, Tolerance: nan, Scale: nan,
 		TauInt: nan, EffectiveSamples: nan, CorrelationTime: nan, TransientEnd: nan, EndTime: nan, TimeStep: nan,
-		Period: nan, Last: nan, Drift: nan, ExtraTime: nan,
+		Period: nan, Last: nan, Drift: nan, Resolution: nan, ExtraTime: nan,
 		RMS: Statistic{math.NaN(), math.NaN(), math.NaN()}}
 	if err := json.Unmarshal(b, &w); err != nil {
 		return err
@@ -138,7 +139,7 @@ func (r *Result) UnmarshalJSON(b []byte) error {
 		Batches: w.Batches, BatchSize: w.BatchSize, TransientEnd: float64(w.TransientEnd),
 		TransientMethod: w.TransientMethod, EndTime: float64(w.EndTime), TimeStep: float64(w.TimeStep),
 		Resampled: w.Resampled, Period: float64(w.Period), Periods: w.Periods, Cycle: w.Cycle, RMS: w.RMS,
-		Last: float64(w.Last), Drift: float64(w.Drift), ExtraTime: float64(w.ExtraTime), ExtraCapped: w.ExtraCapped,
+		Last: float64(w.Last), Drift: float64(w.Drift), Resolution: float64(w.Resolution), ExtraTime: float64(w.ExtraTime), ExtraCapped: w.ExtraCapped,
 		Files: w.Files, Overlaps: w.Overlaps, Notes: w.Notes}
 	if r.Method == "bound" && math.IsNaN(r.Dof) {
 		r.Dof = math.Inf(1)

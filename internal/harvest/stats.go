@@ -3,6 +3,8 @@ package harvest
 import (
 	"fmt"
 	"math"
+	"strconv"
+	"strings"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -187,6 +189,11 @@ type Result struct {
 	// Last is the last value of the series. Drift is the change of a
 	// least-squares line over the last quarter of the series.
 	Last, Drift float64
+	// Resolution is the step of the printed digits of the history's last
+	// values (4.02501 printed to six digits: 1e-5), NaN if unknown; a
+	// value read back from text is uncertain by a uniform rounding error
+	// of standard deviation Resolution/√12, a floor under every error.
+	Resolution float64
 
 	// ExtraTime is how much longer the run should go, in time units, for a
 	// not_converged, too_short or drifting verdict (NaN otherwise); it is
@@ -209,19 +216,52 @@ func unknown(conf float64) Result {
 	u := nanStat
 	return Result{Mean: nan, HalfWidth: nan, StdError: nan, Dof: nan, Confidence: conf, Tolerance: nan, Scale: nan,
 		TauInt: nan, EffectiveSamples: nan, CorrelationTime: nan, TransientEnd: nan, EndTime: nan, TimeStep: nan,
-		Period: nan, RMS: u, Last: nan, Drift: nan, ExtraTime: nan}
+		Period: nan, RMS: u, Last: nan, Drift: nan, ExtraTime: nan, Resolution: nan}
 }
 
 // Estimate returns the mean, standard error and degrees of freedom for
 // comparisons and fits. A steady result's interval is a bound, not a
 // statistical interval: it is read as a normal error (infinite dof) of
 // half-width/1.96, so steady variants can still be told apart by more
-// than their bounds.
+// than their bounds. The standard error is never below the rounding of
+// the printed digits, Resolution/√12 (a uniform error): a history printed
+// to six digits that never changes is not known better than its last
+// digit, and no run may weigh infinitely in a fit.
 func (r Result) Estimate() Estimate {
+	e := Estimate{Mean: r.Mean, StdError: r.StdError, Dof: r.Dof}
 	if r.Method == "bound" {
-		return Estimate{Mean: r.Mean, StdError: r.HalfWidth / distuv.UnitNormal.Quantile(0.975), Dof: math.Inf(1)}
+		e = Estimate{Mean: r.Mean, StdError: r.HalfWidth / distuv.UnitNormal.Quantile(0.975), Dof: math.Inf(1)}
 	}
-	return Estimate{Mean: r.Mean, StdError: r.StdError, Dof: r.Dof}
+	if q := r.Resolution / math.Sqrt(12); q > e.StdError {
+		e.StdError = q
+	}
+	return e
+}
+
+// resolution returns the finest step of the decimal digits with which the
+// values are written in their shortest form (4.025 → 1e-3, 4.02501 →
+// 1e-5), NaN for none. Values read from a text history are exactly their
+// printed decimals, so the finest step is the printing's resolution
+// (trailing zeros are lost in the shortest form, which can only make the
+// step coarser: the floor errs on the safe side).
+func resolution(ys []float64) float64 {
+	q := math.NaN()
+	for _, v := range ys {
+		if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+			continue
+		}
+		s := strconv.FormatFloat(v, 'e', -1, 64)
+		i := strings.IndexByte(s, 'e')
+		exp, _ := strconv.Atoi(s[i+1:])
+		digits := 0
+		if j := strings.IndexByte(s[:i], '.'); j >= 0 {
+			digits = i - j - 1
+		}
+		if step := math.Pow(10, float64(exp-digits)); !(step >= q) {
+			q = step
+		}
+	}
+	return q
 }
 
 // tQuantile returns the two-sided Student t quantile for confidence conf.
@@ -290,6 +330,7 @@ func Analyze(t, y []float64, opts Options) Result {
 		}
 	}
 	r.Last, r.EndTime = y[n-1], t[n-1]
+	r.Resolution = resolution(y[max(0, n-1000):])
 	if n < 2 || t[n-1] <= t[0] {
 		r.ExtraTime = math.NaN()
 		return fail(TooShort, "%d sample(s) spanning no time", n)

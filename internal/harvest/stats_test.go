@@ -330,3 +330,27 @@ func BenchmarkAnalyze(b *testing.B) {
 		}
 	}
 }
+
+// Ensure that the printed digits set a floor under the standard error: a
+// steady history printed to six significant digits that never changes is
+// known to its last digit, q/√12 for a uniform rounding error (common
+// practice), and the shortest decimal form gives each value's step.
+func TestResolutionFloor(t *testing.T) {
+	if q := resolution([]float64{4.025, 4.02501, 4.0251}); q != 1e-5 {
+		t.Errorf("resolution %g, want 1e-5", q)
+	}
+	if q := resolution([]float64{1234.5, 1.2e-7}); math.Abs(q-1e-8)/1e-8 > 1e-12 {
+		t.Errorf("resolution %g, want 1e-8", q)
+	}
+	y := make([]float64, 400)
+	for i := range y {
+		y[i] = 4.02501
+	}
+	r := Analyze(seq(400), y, Options{})
+	if r.Verdict != Steady || r.HalfWidth != 0 {
+		t.Fatalf("constant history: %s ± %v", r.Verdict, r.HalfWidth)
+	}
+	if se, want := r.Estimate().StdError, 1e-5/math.Sqrt(12); math.Abs(se-want) > 1e-12*want {
+		t.Errorf("standard error of a constant printed to six digits %g, want q/√12 = %g", se, want)
+	}
+}

@@ -29,6 +29,39 @@ type Quantity struct {
 	// Strouhal holds the reference length and speed of a Strouhal number,
 	// St = f L / U.
 	Strouhal struct{ Length, Speed float64 }
+	// AtMost and AtLeast, when set, are limits the quantity must keep
+	// (at_most = 0.3 for lift within a band): a variant outside them is
+	// infeasible, and rank, fit and plan --add respect them.
+	AtMost, AtLeast *float64
+}
+
+// Limited reports whether the quantity has a limit.
+func (q *Quantity) Limited() bool { return q.AtMost != nil || q.AtLeast != nil }
+
+// Limits returns the quantity's limits, −Inf and +Inf where it has none.
+func (q *Quantity) Limits() (lo, hi float64) {
+	lo, hi = math.Inf(-1), math.Inf(1)
+	if q.AtLeast != nil {
+		lo = *q.AtLeast
+	}
+	if q.AtMost != nil {
+		hi = *q.AtMost
+	}
+	return lo, hi
+}
+
+// LimitText describes the limits in words ("lift ≤ 0.3", "0.1 ≤ lift ≤
+// 0.3"), "" without any.
+func (q *Quantity) LimitText() string {
+	switch {
+	case q.AtLeast != nil && q.AtMost != nil:
+		return fmt.Sprintf("%g ≤ %s ≤ %g", *q.AtLeast, q.Name, *q.AtMost)
+	case q.AtLeast != nil:
+		return fmt.Sprintf("%s ≥ %g", q.Name, *q.AtLeast)
+	case q.AtMost != nil:
+		return fmt.Sprintf("%s ≤ %g", q.Name, *q.AtMost)
+	}
+	return ""
 }
 
 // Statistics are the statistics of a quantity's developed cycles a
@@ -100,6 +133,8 @@ type rawQuantity struct {
 	Tolerance    float64  `toml:"tolerance"`
 	RelTolerance float64  `toml:"relative_tolerance"`
 	Start        *float64 `toml:"start"`
+	AtMost       *float64 `toml:"at_most"`
+	AtLeast      *float64 `toml:"at_least"`
 	Statistics   []string `toml:"statistics"`
 	Strouhal     *struct {
 		Length *float64 `toml:"length"`
@@ -192,6 +227,7 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 			pr.at(key+".start", "quantity %q: start = %s is not a time: give the time from which to average, or remove start to detect the transient", rq.Name, tomlNumber(*rq.Start))
 		}
 		q.Opts = harvest.Options{Abs: max(rq.Tolerance, 0), Rel: max(rq.RelTolerance, 0), Start: rq.Start}
+		checkLimits(pr, key, &q, rq)
 		r.Quantities = append(r.Quantities, q)
 		for _, d := range derivedQuantities(pr, key, q, rq) {
 			if seen[d.Name] {
@@ -201,6 +237,24 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 			r.Quantities = append(r.Quantities, d)
 		}
 	}
+}
+
+// checkLimits reads a quantity's at_most and at_least.
+func checkLimits(pr *problems, key string, q *Quantity, rq rawQuantity) {
+	for _, l := range []struct {
+		key string
+		v   *float64
+	}{{"at_most", rq.AtMost}, {"at_least", rq.AtLeast}} {
+		if l.v != nil && (math.IsNaN(*l.v) || math.IsInf(*l.v, 0)) {
+			pr.at(key+"."+l.key, "quantity %q: %s = %s must be a finite number, in the quantity's unit", rq.Name, l.key, tomlNumber(*l.v))
+			return
+		}
+	}
+	if rq.AtMost != nil && rq.AtLeast != nil && !(*rq.AtLeast < *rq.AtMost) {
+		pr.at(key+".at_least", "quantity %q: at_least = %g is not below at_most = %g, so no value is allowed: give the band's lower limit in at_least and its upper one in at_most", rq.Name, *rq.AtLeast, *rq.AtMost)
+		return
+	}
+	q.AtMost, q.AtLeast = rq.AtMost, rq.AtLeast
 }
 
 // derivedQuantities reads a quantity's statistics = [...] and strouhal =

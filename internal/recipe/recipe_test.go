@@ -544,3 +544,30 @@ func TestLoadStatistics(t *testing.T) {
 		}
 	}
 }
+
+// Ensure that at_most and at_least give a quantity its limits, and that a
+// band that allows nothing or a limit that is not a number is refused at
+// its line.
+func TestLoadLimits(t *testing.T) {
+	head := "[case]\nbase = \"template\"\n[[param]]\nname = \"r\"\nmin = 0\nmax = 1\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n[[quantity]]\nname = \"drag\"\nfiles = \"f\"\nvalue = 2\nbetter = \"lower\"\n"
+	r, err := Load(writeStudy(t, head+"[[quantity]]\nname = \"lift\"\nfiles = \"f\"\nvalue = 3\nat_least = -0.1\nat_most = 0.3\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lift := r.Quantity("lift")
+	if lo, hi := lift.Limits(); !lift.Limited() || lo != -0.1 || hi != 0.3 || lift.LimitText() != "-0.1 ≤ lift ≤ 0.3" {
+		t.Errorf("lift limits %g, %g, %q", lo, hi, lift.LimitText())
+	}
+	if d := r.Quantity("drag"); d.Limited() {
+		t.Errorf("drag has no limits: %+v", d)
+	}
+	for _, c := range []struct{ text, want string }{
+		{"at_least = 0.3\nat_most = 0.1\n", `study.toml:21: quantity "lift": at_least = 0.3 is not below at_most = 0.1, so no value is allowed: give the band's lower limit in at_least and its upper one in at_most`},
+		{"at_most = nan\n", `study.toml:21: quantity "lift": at_most = nan must be a finite number, in the quantity's unit`},
+	} {
+		_, err := Load(writeStudy(t, head+"[[quantity]]\nname = \"lift\"\nfiles = \"f\"\nvalue = 3\n"+c.text))
+		if err == nil || err.Error() != c.want {
+			t.Errorf("got %v\nwant %s", err, c.want)
+		}
+	}
+}

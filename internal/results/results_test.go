@@ -151,7 +151,7 @@ func TestHarvestAndRank(t *testing.T) {
 		}
 	}
 	csv, err := os.ReadFile(filepath.Join(r.Dir, Dir, "summary.csv"))
-	if err != nil || !strings.HasPrefix(string(csv), "id,label,name,state,k,drag_mean,drag_half_width,drag_samples") || strings.Count(string(csv), "\n") != 5 {
+	if err != nil || !strings.HasPrefix(string(csv), "id,label,name,state,k,drag_mean,drag_half_width,drag_std_error,drag_samples") || strings.Count(string(csv), "\n") != 5 {
 		t.Errorf("summary.csv: %v\n%s", err, csv)
 	}
 	// The harvest is kept in the database.

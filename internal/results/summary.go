@@ -37,7 +37,7 @@ func writeSummary(r *recipe.Recipe, vs []Variant) error {
 	}
 	for _, q := range r.Quantities {
 		n := q.Name
-		head = append(head, n+"_mean", n+"_half_width", n+"_samples", n+"_effective_samples", n+"_transient_end", n+"_verdict")
+		head = append(head, n+"_mean", n+"_half_width", n+"_std_error", n+"_samples", n+"_effective_samples", n+"_transient_end", n+"_verdict")
 	}
 	w.Write(head)
 	for _, v := range vs {
@@ -48,10 +48,14 @@ func writeSummary(r *recipe.Recipe, vs []Variant) error {
 		for _, q := range r.Quantities {
 			res, ok := v.Results[q.Name]
 			if !ok {
-				row = append(row, "", "", "", "", "", "")
+				row = append(row, "", "", "", "", "", "", "")
 				continue
 			}
-			row = append(row, num(res.Mean), num(res.HalfWidth), strconv.Itoa(res.Samples), num(res.EffectiveSamples), num(res.TransientEnd), string(res.Verdict))
+			se := math.NaN()
+			if HasInterval(res) {
+				se = res.Estimate().StdError
+			}
+			row = append(row, num(res.Mean), num(res.HalfWidth), num(se), strconv.Itoa(res.Samples), num(res.EffectiveSamples), num(res.TransientEnd), string(res.Verdict))
 		}
 		w.Write(row)
 	}

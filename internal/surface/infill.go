@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 )
 
@@ -55,6 +56,11 @@ type InfillOptions struct {
 	// Feasible, if not nil, rejects points (natural units) that cannot be
 	// run.
 	Feasible func(x []float64) bool
+	// Snap, if not nil, maps a point (natural units) to the nearest one
+	// that can be run (discrete levels); every candidate is snapped before
+	// it is scored, so a proposal never repeats a run or an earlier
+	// proposal.
+	Snap func(x []float64) []float64
 	// Seed seeds the candidate designs.
 	Seed uint64
 }
@@ -64,8 +70,10 @@ type Proposal struct {
 	// X is the point, in natural units.
 	X []float64
 	// Mean and SD are the fitted model's prediction at X (before any
-	// pseudo-run of the batch was added).
-	Mean, SD float64
+	// pseudo-run of the batch was added); Means and SDs hold every
+	// model's, for proposals from several (ProposeFor).
+	Mean, SD   float64
+	Means, SDs []float64
 	// Score is the criterion's value at X when it was chosen (expected
 	// improvement, or predictive variance, under the model updated with
 	// the batch's earlier points).
@@ -109,6 +117,62 @@ func ExpectedImprovement(fmin, mu, sd float64) float64 {
 //
 // It returns an error wrapping ErrNoFeasible when no candidate is allowed.
 func Propose(m *Kriging, opts InfillOptions) ([]Proposal, error) {
+	sign := 1.0
+	if opts.Maximize {
+		sign = -1
+	}
+	var g goal = &eiGoal{sign: sign}
+	if opts.Criterion == CriterionVariance {
+		g = varianceGoal{}
+	}
+	liar := func(ms []*Kriging, x []float64) []float64 { return []float64{ms[0].Mean(x)} }
+	if opts.Strategy == ConstantLiar {
+		liar = func(ms []*Kriging, _ []float64) []float64 { return []float64{sign * plugInMin(ms[0], sign)} }
+	}
+	return search([]*Kriging{m}, g, liar, opts)
+}
+
+// goal scores a candidate from the models' predictions there.
+type goal interface {
+	// prepare is called with the current models before each point of
+	// a batch.
+	prepare(ms []*Kriging)
+	// score returns the candidate's value (larger is better) from each
+	// model's mean and standard deviation.
+	score(mu, sd []float64) float64
+}
+
+// eiGoal is the expected improvement of one model (sign −1 maximises).
+type eiGoal struct {
+	sign, fmin float64
+}
+
+func (g *eiGoal) prepare(ms []*Kriging) { g.fmin = plugInMin(ms[0], g.sign) }
+
+func (g *eiGoal) score(mu, sd []float64) float64 {
+	return ExpectedImprovement(g.fmin, g.sign*mu[0], sd[0])
+}
+
+// plugInMin returns the smallest signed model mean at the model's runs.
+func plugInMin(m *Kriging, sign float64) float64 {
+	fmin := math.Inf(1)
+	for _, x := range m.Inputs() {
+		fmin = math.Min(fmin, sign*m.Mean(x))
+	}
+	return fmin
+}
+
+type varianceGoal struct{}
+
+func (varianceGoal) prepare([]*Kriging)            {}
+func (varianceGoal) score(_, sd []float64) float64 { return sd[0] * sd[0] }
+
+// search proposes opts.K points that maximise the goal over the models'
+// common bounds (see Propose). After each point every model is refitted,
+// with its hyperparameters kept, with the pseudo-responses believe gives
+// there, one per model.
+func search(ms []*Kriging, g goal, believe func(ms []*Kriging, x []float64) []float64, opts InfillOptions) ([]Proposal, error) {
+	m := ms[0]
 	k := m.gp.k
 	b := m.Bounds()
 	if opts.K <= 0 {
@@ -117,32 +181,39 @@ func Propose(m *Kriging, opts InfillOptions) ([]Proposal, error) {
 	if opts.Candidates <= 0 {
 		opts.Candidates = max(1000, 300*k)
 	}
-	runs := unitInputs(m)
+	var runs [][]float64
+	for _, mm := range ms {
+		for _, u := range unitInputs(mm) {
+			if nearest(u, runs) > 0 {
+				runs = append(runs, u)
+			}
+		}
+	}
 	if opts.MinDist <= 0 {
-		opts.MinDist = 0.25 * medianSpacing(runs)
+		opts.MinDist = 0.1 * medianSpacing(runs)
 		if !(opts.MinDist >= 0.01) || math.IsInf(opts.MinDist, 1) {
 			opts.MinDist = 0.01
 		}
 	}
-	sign := 1.0
-	if opts.Maximize {
-		sign = -1
-	}
 	rng := rand.New(rand.NewPCG(opts.Seed, 0x1f111))
-	cur := m
+	cur := slices.Clone(ms)
 	taken := append([][]float64(nil), runs...)
+	mu, sd := make([]float64, len(ms)), make([]float64, len(ms))
 	var out []Proposal
 	for len(out) < opts.K {
-		fmin := math.Inf(1)
-		for _, x := range cur.Inputs() {
-			fmin = math.Min(fmin, sign*cur.Mean(x))
-		}
+		g.prepare(cur)
 		score := func(u []float64) float64 {
-			mu, sd := cur.Predict(b.fromUnit(u))
-			if opts.Criterion == CriterionVariance {
-				return sd * sd
+			x := b.fromUnit(u)
+			for i, mm := range cur {
+				mu[i], sd[i] = mm.Predict(x)
 			}
-			return ExpectedImprovement(fmin, sign*mu, sd)
+			return g.score(mu, sd)
+		}
+		snap := func(u []float64) []float64 {
+			if opts.Snap == nil {
+				return u
+			}
+			return b.toUnit(opts.Snap(b.fromUnit(u)))
 		}
 		allowed := func(u []float64) bool {
 			if nearest(u, taken) < opts.MinDist {
@@ -156,18 +227,25 @@ func Propose(m *Kriging, opts InfillOptions) ([]Proposal, error) {
 		}
 		var pool []scored
 		for _, u := range latin(rng, opts.Candidates, k) {
-			if allowed(u) {
+			if u = snap(u); allowed(u) {
 				pool = append(pool, scored{u, score(u)})
 			}
 		}
 		if len(pool) == 0 {
-			return out, fmt.Errorf("%w: no candidate for point %d is at least %.3g from every run and feasible", ErrNoFeasible, len(out)+1, opts.MinDist)
+			why := fmt.Sprintf("is at least %.3g (in the unit box) from every run and earlier proposal", opts.MinDist)
+			if opts.Snap != nil {
+				why = "differs from every run and earlier proposal once snapped to the parameters' levels"
+			}
+			if opts.Feasible != nil {
+				why += " and satisfies the constraints"
+			}
+			return out, fmt.Errorf("%w: no candidate for point %d %s", ErrNoFeasible, len(out)+1, why)
 		}
 		sort.SliceStable(pool, func(i, j int) bool { return pool[i].s > pool[j].s })
 		best := pool[0]
 		scale := math.Max(best.s, 1e-300)
 		f := func(v []float64) float64 {
-			u := clampUnit(v)
+			u := snap(clampUnit(v))
 			var pen float64
 			for j := range v {
 				pen += (v[j] - u[j]) * (v[j] - u[j])
@@ -185,21 +263,25 @@ func Propose(m *Kriging, opts InfillOptions) ([]Proposal, error) {
 			localMin(f, pool[i].u, 0.02, scale)
 		}
 		x := b.fromUnit(best.u)
-		mu, sd := m.Predict(x)
-		out = append(out, Proposal{X: x, Mean: mu, SD: sd, Score: best.s})
+		p := Proposal{X: x, Score: best.s}
+		p.Mean, p.SD = ms[0].Predict(x)
+		for _, mm := range ms {
+			mean, s := mm.Predict(x)
+			p.Means, p.SDs = append(p.Means, mean), append(p.SDs, s)
+		}
+		out = append(out, p)
 		taken = append(taken, best.u)
 		if len(out) == opts.K {
 			break
 		}
-		pseudo := cur.Mean(x)
-		if opts.Strategy == ConstantLiar {
-			pseudo = sign * fmin
+		ys := believe(cur, x)
+		for i, mm := range cur {
+			next, err := mm.withRun(x, ys[i])
+			if err != nil {
+				return out, err
+			}
+			cur[i] = next
 		}
-		next, err := cur.withRun(x, pseudo)
-		if err != nil {
-			return out, err
-		}
-		cur = next
 	}
 	return out, nil
 }
