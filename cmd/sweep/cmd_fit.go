@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -12,6 +13,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/sweep-cfd/sweep/internal/fit"
+	"github.com/sweep-cfd/sweep/internal/results"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -87,22 +89,42 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 		}
 		rep.Response = opts.response
 	} else {
-		h, err := harvestStudy(cmd, studyDir(args), opts.quantity)
+		h, err := harvestStudy(cmd, studyDir(args), opts.quantity, true)
 		if err != nil {
 			return err
 		}
 		defer h.st.Close()
-		r, q, vs := h.r, h.q, h.vs
-		in, err := fit.StudyData(r, vs, q.Name)
+		r, vs := h.r, h.vs
+		prob, err := fit.StudyProblem(r, vs, h.qs)
 		if err != nil {
 			return err
 		}
-		rep, err = fit.Fit(in.Data, in.Options(fit.Options{Model: opts.model, Terms: opts.terms, Maximize: !q.LowerIsBetter(),
-			Feasible: fit.Feasible(r, in.Cols, vs), Seed: opts.seed}))
-		if err != nil {
-			return fmt.Errorf("fit %s: %w", q.Name, err)
+		var cols []int
+		if len(prob.Objectives) > 0 {
+			cols = prob.Objectives[0].In.Cols
 		}
-		rep.Response, rep.LeftOut = q.Name, in.Left
+		base := fit.Options{Model: opts.model, Terms: opts.terms, Feasible: fit.Feasible(r, cols, vs), Seed: opts.seed}
+		if len(h.qs) > 1 {
+			front, err := prob.FitFront(base)
+			if err != nil {
+				return fmt.Errorf("fit %s: %w", prob.Names(), err)
+			}
+			if opts.json {
+				return ui.JSON(cmd.OutOrStdout(), front)
+			}
+			if opts.csv {
+				return ui.CSV(cmd.OutOrStdout(), frontTable(front, true))
+			}
+			tr := results.Tradeoff(vs, tradeObjectives(h.qs), results.LimitsOf(r), opts.seed)
+			printFront(cmd.OutOrStdout(), front, tr)
+			return nil
+		}
+		var limits []*fit.Report
+		rep, limits, err = prob.FitConstrained(base)
+		if err != nil {
+			return err
+		}
+		rep.LimitFits = limits
 	}
 	if opts.json {
 		return ui.JSON(cmd.OutOrStdout(), rep)
@@ -197,8 +219,23 @@ func printFit(w io.Writer, rep *fit.Report) {
 			}
 			fmt.Fprintf(w, "  best measured run%s: %s at %s\n", label, ui.PlusMinus(b.Value, b.HalfWidth), strings.Join(at, ", "))
 		}
+		for _, l := range o.Limits {
+			fmt.Fprintf(w, "  %s = %s (%s; chance within %.0f%%)\n", l.Quantity, ui.PlusMinus(l.Mean, l.HalfWidth), l.Limit, 100*l.Chance)
+			if o.Source == "surface" && l.Chance < 0.95 {
+				fmt.Fprintf(w, "  note: %s is predicted close to its limit (%s): the optimum sits on the limit, so a run there keeps it only about %.0f%% of the time; confirm it with a run, or tighten the limit by the interval for a safe margin\n", l.Quantity, l.Limit, 100*l.Chance)
+			}
+		}
 		for _, warn := range o.Warnings {
 			fmt.Fprintln(w, "  note:", warn)
+		}
+	}
+	for _, n := range rep.Notes {
+		fmt.Fprintln(w, "note:", n)
+	}
+	for _, lf := range rep.LimitFits {
+		fmt.Fprintf(w, "limited quantity %s: %s surface, leave-one-out error %.3g against the runs' own uncertainty %.3g\n", lf.Response, lf.Model, lf.LOORMSE, lf.Noise)
+		if lf.Flag != "" {
+			fmt.Fprintln(w, "  WARNING:", lf.Flag)
 		}
 	}
 	if len(rep.Sensitivities) > 0 {
@@ -211,6 +248,85 @@ func printFit(w io.Writer, rep *fit.Report) {
 	}
 	for _, l := range rep.LeftOut {
 		fmt.Fprintf(w, "left out: %s: %s\n", l.Label, l.Reason)
+	}
+	fmt.Fprintln(w, ui.Caution)
+}
+
+// frontTable lays out a predicted front, one row per point; csv gives the
+// numbers in columns of their own.
+func frontTable(f *fit.Front, csv bool) [][]string {
+	head := slices.Clone(f.Params)
+	if len(f.Points) > 0 {
+		for _, v := range f.Points[0].Values {
+			if csv {
+				head = append(head, v.Quantity+"_mean", v.Quantity+"_half_width")
+			} else {
+				head = append(head, v.Quantity+" (95% CI)")
+			}
+		}
+	}
+	if len(f.Limits) > 0 {
+		head = append(head, "within limits")
+	}
+	rows := [][]string{head}
+	for _, p := range f.Points {
+		var line []string
+		for _, n := range f.Params {
+			if csv {
+				line = append(line, ui.CSVNumber(p.Params[n]))
+			} else {
+				line = append(line, fmt.Sprintf("%.4g", p.Params[n]))
+			}
+		}
+		for _, v := range p.Values {
+			if csv {
+				line = append(line, ui.CSVNumber(v.Mean), ui.CSVNumber(v.HalfWidth))
+			} else {
+				line = append(line, ui.PlusMinus(v.Mean, v.HalfWidth))
+			}
+		}
+		if len(f.Limits) > 0 {
+			if csv {
+				line = append(line, ui.CSVNumber(p.Chance))
+			} else {
+				line = append(line, fmt.Sprintf("%.0f%%", 100*p.Chance))
+			}
+		}
+		rows = append(rows, line)
+	}
+	return rows
+}
+
+func printFront(w io.Writer, f *fit.Front, tr results.Trade) {
+	var what []string
+	for i, o := range f.Objectives {
+		what = append(what, fmt.Sprintf("%s (%s is better)", o, f.Better[i]))
+	}
+	fmt.Fprintf(w, "trade-off of %s over %s", strings.Join(what, " and "), strings.Join(f.Params, ", "))
+	if len(f.Limits) > 0 {
+		fmt.Fprintf(w, " within %s", strings.Join(f.Limits, ", "))
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "\nsurfaces:")
+	rows := [][]string{{"quantity", "model", "runs", "leave-one-out error", "runs' own uncertainty", ""}}
+	for _, s := range f.Surfaces {
+		flag := ""
+		if s.Flag != "" {
+			flag = "misses structure: see `sweep fit --quantity " + s.Response + "`"
+		}
+		rows = append(rows, []string{s.Response, s.Model, fmt.Sprint(s.Runs), fmt.Sprintf("%.3g", s.LOORMSE), fmt.Sprintf("%.3g", s.Noise), flag})
+	}
+	ui.Table(w, rows)
+	fmt.Fprintf(w, "\npredicted front: %d points spread along it (%d distinct front points of %d screened; differences within a run's 95%% half-width are ties); 95%% intervals of the predicted means:\n", len(f.Points), f.Size, f.Screened)
+	ui.Table(w, frontTable(f, false))
+	fmt.Fprintln(w, "\nthe predicted front is a model's: run variants at the points you would choose, and compare with the measured front")
+	if front := tr.FrontLabels(); len(front) > 0 {
+		fmt.Fprintf(w, "measured front (see `sweep rank --quantity %s`): %s\n", strings.Join(f.Objectives, ","), strings.Join(front, ", "))
+	}
+	for _, s := range f.Surfaces {
+		for _, l := range s.LeftOut {
+			fmt.Fprintf(w, "left out of %s: %s: %s\n", s.Response, l.Label, l.Reason)
+		}
 	}
 	fmt.Fprintln(w, ui.Caution)
 }

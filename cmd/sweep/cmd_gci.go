@@ -55,7 +55,7 @@ flagged. Each setup of the other parameters is analysed on its own.`,
 }
 
 func meshStudy(cmd *cobra.Command, dir, quantity string) ([]results.MeshGroup, *recipe.Recipe, *recipe.Quantity, error) {
-	h, err := harvestStudy(cmd, dir, quantity)
+	h, err := harvestStudy(cmd, dir, quantity, false)
 	if err != nil {
 		return nil, nil, nil, err
 	}

@@ -87,23 +87,25 @@ listed), unless --include-running records their preliminary averages.`,
 	return cmd
 }
 
-// harvested is a study harvested for one quantity: what rank, report,
-// gci and fit start from.
+// harvested is a study harvested for one or more quantities: what rank,
+// report, gci and fit start from. q is the first of qs.
 type harvested struct {
 	r  *recipe.Recipe
 	st *store.Store
 	q  *recipe.Quantity
+	qs []*recipe.Quantity
 	vs []results.Variant
 }
 
-// harvestStudy opens the study in dir, picks the quantity (default: the
-// objective) and harvests every variant. The caller closes h.st.
-func harvestStudy(cmd *cobra.Command, dir, quantity string) (*harvested, error) {
+// harvestStudy opens the study in dir, picks the quantities of spec (see
+// objectives; one unless several) and harvests every variant. The caller
+// closes h.st.
+func harvestStudy(cmd *cobra.Command, dir, spec string, several bool) (*harvested, error) {
 	r, st, err := openStudy(dir)
 	if err != nil {
 		return nil, err
 	}
-	q, err := r.Objective(quantity)
+	qs, err := objectives(r, spec, several)
 	if err != nil {
 		st.Close()
 		return nil, usageError{err}
@@ -113,7 +115,38 @@ func harvestStudy(cmd *cobra.Command, dir, quantity string) (*harvested, error) 
 		st.Close()
 		return nil, err
 	}
-	return &harvested{r, st, q, vs}, nil
+	return &harvested{r, st, qs[0], qs, vs}, nil
+}
+
+// objectives returns the quantities a --quantity list names ("drag", or
+// "drag,downforce" where several are allowed), by default the recipe's
+// objective. Each of several must say which values are better.
+func objectives(r *recipe.Recipe, spec string, several bool) ([]*recipe.Quantity, error) {
+	names := strings.Split(spec, ",")
+	if len(names) > 1 && !several {
+		return nil, fmt.Errorf("--quantity %q names %d quantities; this command takes one", spec, len(names))
+	}
+	var qs []*recipe.Quantity
+	seen := map[string]bool{}
+	for _, n := range names {
+		n = strings.TrimSpace(n)
+		if len(names) > 1 && n == "" {
+			return nil, fmt.Errorf("--quantity %q has an empty name: separate the quantities with single commas", spec)
+		}
+		q, err := r.Objective(n)
+		if err != nil {
+			return nil, err
+		}
+		if seen[q.Name] {
+			return nil, fmt.Errorf("--quantity %q names %s twice", spec, q.Name)
+		}
+		seen[q.Name] = true
+		if len(names) > 1 && q.Direction == recipe.None {
+			return nil, fmt.Errorf("quantity %q (%s:%d) does not say which values are better: add better = \"lower\" or \"higher\" to it to trade it against the others", q.Name, recipe.FileName, q.Line)
+		}
+		qs = append(qs, q)
+	}
+	return qs, nil
 }
 
 // openStudy loads a planned study's recipe and opens its database for

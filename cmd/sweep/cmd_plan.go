@@ -1,11 +1,13 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -45,8 +47,8 @@ its results.`,
 	}
 	cmd.Flags().BoolVar(&opts.dryRun, "dry-run", false, "print the variants without writing anything")
 	cmd.Flags().IntVar(&opts.add, "add", 0, "propose this many new variants where they help most (from a kriging surface of the harvested results) and add them")
-	cmd.Flags().StringVar(&opts.criterion, "criterion", "ei", "with --add: ei (expected improvement of the objective) or variance (where the surface is least certain)")
-	cmd.Flags().StringVar(&opts.quantity, "quantity", "", "with --add: the quantity (default: the objective)")
+	cmd.Flags().StringVar(&opts.criterion, "criterion", "ei", "with --add: ei (expected improvement of the objective, times the chance of keeping the recipe's limits; of the hypervolume for several quantities) or variance (where the surface is least certain)")
+	cmd.Flags().StringVar(&opts.quantity, "quantity", "", "with --add: the quantity, or several separated by commas for their trade-off (default: the objective)")
 	cmd.Flags().Uint64Var(&opts.seed, "seed", 1, "with --add: seed of the search for new points")
 	cmd.Flags().BoolVar(&opts.json, "json", false, "print the result as JSON")
 	cmd.Flags().BoolVar(&opts.csv, "csv", false, "print the variants as CSV")
@@ -104,11 +106,19 @@ type planRowJSON struct {
 	New    bool           `json:"new"`
 }
 
-// propose fits the harvested results and proposes opts.add new points.
+// propose fits the harvested results and proposes opts.add new points:
+// by expected improvement (or variance) of one quantity, by expected
+// improvement times the chance of keeping the limits when the recipe
+// limits quantities, and by expected hypervolume improvement for
+// several quantities.
 func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions) ([]recipe.Point, error) {
-	q, err := r.Objective(opts.quantity)
+	qs, err := objectives(r, opts.quantity, true)
 	if err != nil {
 		return nil, usageError{err}
+	}
+	limits := results.LimitsOf(r)
+	if opts.criterion == "variance" && (len(qs) > 1 || len(limits) > 0) {
+		return nil, usageError{errors.New("--criterion variance explores one quantity's surface; with several quantities or the recipe's limits use --criterion ei (expected improvement with the chance of keeping the limits, or of the hypervolume)")}
 	}
 	st, err := store.OpenExisting(dir, store.Options{Brief: true})
 	if err != nil {
@@ -119,14 +129,21 @@ func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions)
 	if err != nil {
 		return nil, err
 	}
-	in, err := fit.StudyData(r, vs, q.Name)
+	prob, err := fit.StudyProblem(r, vs, qs)
 	if err != nil {
 		return nil, err
 	}
-	if len(in.Data.Y) < 3 {
-		return nil, fmt.Errorf("--add needs at least 3 converged variants to fit a surface (the study has %d); run the design first", len(in.Data.Y))
+	for _, part := range append(slices.Clone(prob.Objectives), prob.Limits...) {
+		if n := len(part.In.Data.Y); n < 3 {
+			return nil, fmt.Errorf("--add needs at least 3 variants with an average of %s to fit its surface (the study has %d); run the design first", part.Quantity, n)
+		}
 	}
-	pts, _, err := fit.Next(r, in, vs, opts.add, opts.criterion, !q.LowerIsBetter(), opts.seed)
+	var pts []recipe.Point
+	if len(qs) == 1 && len(limits) == 0 {
+		pts, _, err = fit.Next(r, prob.Objectives[0].In, vs, opts.add, opts.criterion, !qs[0].LowerIsBetter(), opts.seed)
+	} else {
+		pts, _, err = prob.Next(r, vs, opts.add, opts.seed)
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -216,15 +233,24 @@ func printPlanSummary(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool)
 			line += " (no better = ...; ranked lowest first)"
 		}
 		var also []string
+		names := []string{q.Name}
 		for _, o := range r.Quantities {
 			if o.Name != q.Name && o.Direction != recipe.None {
 				also = append(also, fmt.Sprintf("%s (%s is better)", o.Name, o.Direction))
+				names = append(names, o.Name)
 			}
 		}
 		if also != nil {
-			line += "; also directed: " + strings.Join(also, ", ") + "; rank, fit and plan --add use the objective unless given another quantity"
+			line += "; also directed: " + strings.Join(also, ", ") + "; rank, fit and plan --add use the objective unless given --quantity (--quantity " + strings.Join(names, ",") + " for their trade-off)"
 		}
 		fmt.Fprintln(w, line)
+		var limits []string
+		for _, l := range results.LimitsOf(r) {
+			limits = append(limits, l.Text)
+		}
+		if limits != nil {
+			fmt.Fprintf(w, "limits: %s; rank, fit and plan --add keep them\n", strings.Join(limits, ", "))
+		}
 	}
 	if !dry && res.Added+res.NewJobs > 0 {
 		fmt.Fprintf(w, "next: sweep run %s\n", r.Dir)

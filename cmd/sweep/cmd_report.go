@@ -51,7 +51,7 @@ and travels by e-mail.`,
 }
 
 func runReport(cmd *cobra.Command, opts reportOptions, dir string) error {
-	h, err := harvestStudy(cmd, dir, opts.by)
+	h, err := harvestStudy(cmd, dir, opts.by, true)
 	if err != nil {
 		return err
 	}

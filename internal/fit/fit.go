@@ -169,6 +169,9 @@ type Report struct {
 	// Curve samples a one-parameter surface across its range.
 	Curve   []CurvePoint `json:"curve,omitempty"`
 	LeftOut []LeftOut    `json:"left_out,omitempty"`
+	// LimitFits are the surfaces of the quantities with limits, when the
+	// optimum was constrained by them.
+	LimitFits []*Report `json:"limit_fits,omitempty"`
 	// Notes says what else a reader must know (no run keeps the limits).
 	Notes    []string  `json:"notes,omitempty"`
 	LOO      []float64 `json:"loo_predictions,omitempty"`

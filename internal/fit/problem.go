@@ -83,19 +83,20 @@ func (p *Problem) runLimits(in *Inputs) [][]LimitValue {
 }
 
 // limitSurfaces fits a surface to each limited quantity (model chosen by
-// cross-validation).
-func (p *Problem) limitSurfaces(base Options) ([]LimitSurface, []*Report, error) {
-	var ls []LimitSurface
-	var reps []*Report
+// cross-validation), or takes it from fitted, the objectives' surfaces by
+// name; reps holds the new fits only.
+func (p *Problem) limitSurfaces(base Options, fitted map[string]*Report) (ls []LimitSurface, reps []*Report, err error) {
 	for _, l := range p.Limits {
-		o := l.In.Options(Options{Seed: base.Seed, Feasible: base.Feasible})
-		rep, err := Fit(l.In.Data, o)
-		if err != nil {
-			return nil, nil, fmt.Errorf("fit %s (limited: %s): %w", l.Quantity, l.Limit, err)
+		rep := fitted[l.Quantity]
+		if rep == nil {
+			o := l.In.Options(Options{Seed: base.Seed, Feasible: base.Feasible})
+			if rep, err = Fit(l.In.Data, o); err != nil {
+				return nil, nil, fmt.Errorf("fit %s (limited: %s): %w", l.Quantity, l.Limit, err)
+			}
+			rep.Response, rep.LeftOut = l.Quantity, l.In.Left
+			reps = append(reps, rep)
 		}
-		rep.Response, rep.LeftOut = l.Quantity, l.In.Left
 		ls = append(ls, LimitSurface{Quantity: l.Quantity, Lo: l.Lo, Hi: l.Hi, Text: l.Limit, Report: rep})
-		reps = append(reps, rep)
 	}
 	return ls, reps, nil
 }
@@ -110,7 +111,7 @@ func (p *Problem) FitConstrained(base Options) (*Report, []*Report, error) {
 	if len(p.Objectives) != 1 {
 		return nil, nil, errors.New("fit: a constrained optimum has one objective")
 	}
-	ls, reps, err := p.limitSurfaces(base)
+	ls, reps, err := p.limitSurfaces(base, nil)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -142,11 +143,13 @@ type Front struct {
 	Better     []string `json:"better"`
 	Params     []string `json:"param_names"`
 	Limits     []string `json:"limits,omitempty"`
-	// Surfaces are the objectives' fits, then the limited quantities'.
+	// Surfaces are the objectives' fits, then the other limited
+	// quantities'.
 	Surfaces []*Report `json:"surfaces"`
 	// Points are up to MaxFrontPoints points spread along the front of
 	// the surfaces' means, in order of the first objective; Size is how
-	// many of the screened points were on it.
+	// many distinct points of the screen were on it (one per box of the
+	// tie widths; see tradeoff.FrontWithin).
 	Points []FrontPoint `json:"points"`
 	Size   int          `json:"size"`
 	// Screened is the number of points of the parameter range screened.
@@ -169,12 +172,9 @@ func (p *Problem) FitFront(base Options) (*Front, error) {
 	if len(p.Objectives) < 2 {
 		return nil, errors.New("fit: a front needs two or more objectives")
 	}
-	ls, lreps, err := p.limitSurfaces(base)
-	if err != nil {
-		return nil, err
-	}
 	f := &Front{}
 	var objs []*Report
+	byName := map[string]*Report{}
 	for _, o := range p.Objectives {
 		opts := o.In.Options(base)
 		opts.Maximize = o.Maximize
@@ -184,8 +184,13 @@ func (p *Problem) FitFront(base Options) (*Front, error) {
 		}
 		rep.Response, rep.LeftOut = o.Quantity, o.In.Left
 		objs = append(objs, rep)
+		byName[o.Quantity] = rep
 		f.Objectives = append(f.Objectives, o.Quantity)
 		f.Better = append(f.Better, map[bool]string{true: "higher", false: "lower"}[o.Maximize])
+	}
+	ls, lreps, err := p.limitSurfaces(base, byName)
+	if err != nil {
+		return nil, err
 	}
 	for _, l := range ls {
 		f.Limits = append(f.Limits, l.Text)
@@ -251,7 +256,9 @@ func (p *Problem) FitFront(base Options) (*Front, error) {
 			pt.Values = append(pt.Values, LimitValue{Quantity: f.Objectives[j], Mean: m, HalfWidth: hw, Chance: 1, Within: true})
 		}
 		for _, lv := range limitValues(ls, x) {
-			pt.Values = append(pt.Values, lv)
+			if byName[lv.Quantity] == nil {
+				pt.Values = append(pt.Values, lv)
+			}
 			pt.Chance *= lv.Chance
 		}
 		f.Points = append(f.Points, pt)

@@ -1,6 +1,7 @@
 package tradeoff
 
 import (
+	"fmt"
 	"math"
 	"slices"
 )
@@ -57,45 +58,60 @@ func Front(ys [][]float64) []int {
 	return out
 }
 
-// FrontWithin returns the front (see Front) less the points another front
-// point beats by more than eps[j] in some objective j while being worse
-// by no more than eps in any, and less all but the first of equal points:
-// differences within eps are ties, so a point that gains a negligible
-// amount in one objective for a large loss in another does not stay on
-// the front. A point beaten so by a dominated point is beaten so by a
-// front point too, which dominates the dominated one, so checking the
-// front suffices.
+// FrontWithin returns a front in which differences below eps[j] in
+// objective j count as ties, by ε-box dominance (Laumanns, Thiele, Deb and
+// Zitzler 2002, "Combining convergence and diversity in evolutionary
+// multiobjective optimization", Evol. Comput. 10(3)): each point falls in
+// the box of side eps it lies in, the boxes no other box dominates are
+// kept, and of the points in a kept box the one nearest its lower corner
+// (a point of the front) stands for it. A point that gains a negligible
+// amount in one objective for a large loss in another then drops out,
+// while dominance among boxes, unlike a tolerance on each comparison,
+// stays transitive, so the result is never empty. An eps of 0 keeps that
+// objective's values as they are.
 func FrontWithin(ys [][]float64, eps []float64) []int {
 	front := Front(ys)
-	var out []int
-	for _, i := range front {
-		beaten := false
-		for _, k := range front {
-			if k != i && (beatsWithin(ys[k], ys[i], eps) || (k < i && slices.Equal(ys[k], ys[i]))) {
-				beaten = true
-				break
+	if len(front) == 0 {
+		return nil
+	}
+	boxes := make([][]float64, len(front))
+	for n, i := range front {
+		boxes[n] = make([]float64, len(eps))
+		for j, e := range eps {
+			if e > 0 {
+				boxes[n][j] = math.Floor(ys[i][j] / e)
+			} else {
+				boxes[n][j] = ys[i][j]
 			}
 		}
-		if !beaten {
-			out = append(out, i)
+	}
+	rep := map[string]int{} // box → index into front of its point
+	for _, n := range Front(boxes) {
+		key := fmt.Sprint(boxes[n])
+		k, seen := rep[key]
+		if !seen || corner(ys[front[n]], boxes[n], eps) < corner(ys[front[k]], boxes[k], eps) {
+			rep[key] = n
 		}
 	}
+	out := make([]int, 0, len(rep))
+	for _, n := range rep {
+		out = append(out, front[n])
+	}
+	slices.Sort(out)
 	return out
 }
 
-// beatsWithin reports whether a is worse than b by at most eps in every
-// objective and better by more than eps in one.
-func beatsWithin(a, b, eps []float64) bool {
-	better := false
-	for j := range a {
-		if a[j] > b[j]+eps[j] {
-			return false
-		}
-		if a[j] < b[j]-eps[j] {
-			better = true
+// corner returns the scaled squared distance of y from its box's lower
+// corner.
+func corner(y, box, eps []float64) float64 {
+	d := 0.0
+	for j, e := range eps {
+		if e > 0 {
+			v := y[j]/e - box[j]
+			d += v * v
 		}
 	}
-	return better
+	return d
 }
 
 // Layers returns each point's layer of non-dominated sorting: 1 for the

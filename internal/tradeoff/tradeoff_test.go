@@ -215,18 +215,31 @@ func TestFrontMatchesDefinition(t *testing.T) {
 	}
 }
 
-// Ensure that a negligible gain does not keep a point on the front: of
-// (0, 1) and (−1e-9, 10), the second beats the first by less than the tie
-// width in the first objective and loses by 9 in the second.
+// Ensure that a negligible gain does not keep a point on the front: with
+// boxes of 0.01, (0.304, 10) gains 0.001 on (0.305, 1) in the first
+// objective, within their common box, and loses 9 in the second, so it
+// drops out; of (0.501, 0.501) and (0.502, 0.5015), in one box, the one
+// nearer the box's corner stands for both; and a front of 200 points
+// along a smooth curve, spaced finer than the boxes, keeps one point per
+// box, never none.
 func TestFrontWithin(t *testing.T) {
-	ys := [][]float64{{0, 1}, {-1e-9, 10}, {0.5, 0.5}}
-	if got := Front(ys); !slices.Equal(got, []int{0, 1, 2}) {
+	ys := [][]float64{{0.305, 1}, {0.304, 10}, {0.5015, 0.5015}, {0.502, 0.5012}, {0.9, 0.1}}
+	if got := Front(ys); !slices.Equal(got, []int{0, 1, 2, 3, 4}) {
 		t.Errorf("front %v", got)
 	}
-	if got := FrontWithin(ys, []float64{1e-6, 1e-6}); !slices.Equal(got, []int{0, 2}) {
-		t.Errorf("front within 1e-6: %v, want [0 2]", got)
+	if got := FrontWithin(ys, []float64{0.01, 0.01}); !slices.Equal(got, []int{0, 2, 4}) {
+		t.Errorf("front within 0.01: %v, want [0 2 4]", got)
 	}
-	if got := FrontWithin(ys, []float64{0, 0}); !slices.Equal(got, []int{0, 1, 2}) {
+	if got := FrontWithin(ys, []float64{0, 0}); !slices.Equal(got, []int{0, 1, 2, 3, 4}) {
 		t.Errorf("front within 0: %v, want all", got)
+	}
+	var curve [][]float64
+	for i := range 200 {
+		f1 := float64(i) / 199
+		curve = append(curve, []float64{f1, 1 - math.Sqrt(f1)})
+	}
+	got := FrontWithin(curve, []float64{0.05, 0.05})
+	if len(got) < 10 || len(got) > 40 {
+		t.Errorf("a smooth front in boxes of 0.05 keeps %d points, want one per box (10 to 40)", len(got))
 	}
 }
