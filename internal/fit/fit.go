@@ -362,7 +362,8 @@ func Fit(d surface.Data, opts Options) (*Report, error) {
 	return rep, nil
 }
 
-// fittedData returns d with the log inputs in log10 (bounds too).
+// fittedData returns d with the log inputs in log10 (bounds too), named
+// log10(name) so that terms say what they are.
 func fittedData(d surface.Data, log []bool) surface.Data {
 	if !slices.Contains(log, true) {
 		return d
@@ -373,6 +374,12 @@ func fittedData(d surface.Data, log []bool) surface.Data {
 		fd.X[i] = toFitted(x, log)
 	}
 	fd.Bounds = surface.Bounds{Lo: toFitted(d.Bounds.Lo, log), Hi: toFitted(d.Bounds.Hi, log)}
+	fd.Names = slices.Clone(d.Names)
+	for j := range fd.Names {
+		if j < len(log) && log[j] {
+			fd.Names[j] = "log10(" + fd.Names[j] + ")"
+		}
+	}
 	return fd
 }
 

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -59,20 +60,25 @@ func Next(r *recipe.Recipe, in *Inputs, vs []results.Variant, k int, criterion s
 	}
 	snap := snapper(r, in)
 	feasible := Feasible(r, in.Cols, vs)
-	opts := surface.InfillOptions{Criterion: crit, Maximize: maximize, K: k, Seed: seed + 3,
+	opts := surface.InfillOptions{Criterion: crit, Maximize: maximize, K: k, Seed: seed + 3, Avoid: planned(in, vs),
 		Snap: func(u []float64) []float64 { return toFitted(snap(toNatural(u, in.Log)), in.Log) }}
 	if feasible != nil {
 		opts.Feasible = func(u []float64) bool { return feasible(toNatural(u, in.Log)) }
 	}
 	props, err := surface.Propose(kr, opts)
-	return points(in, vs, k, props, err, criterionName(crit), snap)
+	return points(r, in, vs, k, props, err, criterionName(crit), snap)
 }
 
 // points turns proposals into full parameter values: varying parameters
 // from the proposal, snapped once more (the search's unit box leaves
 // rounding in its digits), the others as in the first run.
-func points(in *Inputs, vs []results.Variant, k int, props []surface.Proposal, err error, why string, snap func([]float64) []float64) ([]recipe.Point, []surface.Proposal, error) {
+func points(r *recipe.Recipe, in *Inputs, vs []results.Variant, k int, props []surface.Proposal, err error, why string, snap func([]float64) []float64) ([]recipe.Point, []surface.Proposal, error) {
 	if err != nil {
+		if errors.Is(err, surface.ErrNoFeasible) {
+			if n, all := levelCombinations(r, in); all {
+				err = fmt.Errorf("every parameter that varies takes listed levels, and the study's variants and the points proposed fill all %d of their combinations: list more levels in %s, or give a parameter a range (min, max) so that new values can be proposed", n, recipe.FileName)
+			}
+		}
 		if len(props) == 0 {
 			return nil, nil, fmt.Errorf("no new point can be proposed: %w", err)
 		}
@@ -125,7 +131,7 @@ func (p *Problem) Next(r *recipe.Recipe, vs []results.Variant, k int, seed uint6
 	in := p.Objectives[0].In
 	snap := snapper(r, in)
 	feasible := Feasible(r, in.Cols, vs)
-	opts := surface.InfillOptions{K: k, Seed: seed + 3,
+	opts := surface.InfillOptions{K: k, Seed: seed + 3, Avoid: planned(in, vs),
 		Snap: func(u []float64) []float64 { return toFitted(snap(toNatural(u, in.Log)), in.Log) }}
 	if feasible != nil {
 		opts.Feasible = func(u []float64) bool { return feasible(toNatural(u, in.Log)) }
@@ -138,7 +144,43 @@ func (p *Problem) Next(r *recipe.Recipe, vs []results.Variant, k int, seed uint6
 			why += " × chance of keeping the limits"
 		}
 	}
-	return points(in, vs, k, props, err, why, snap)
+	return points(r, in, vs, k, props, err, why, snap)
+}
+
+// planned returns the points (natural units of the inputs) of the
+// variants that are not among the inputs' runs: pending, failed or left
+// out, so that no proposal repeats them.
+func planned(in *Inputs, vs []results.Variant) [][]float64 {
+	fitted := map[string]bool{}
+	for _, l := range in.Labels {
+		fitted[l] = true
+	}
+	var out [][]float64
+	for _, v := range vs {
+		if fitted[v.Label] || len(v.Values) == 0 {
+			continue
+		}
+		x := make([]float64, len(in.Cols))
+		for j, c := range in.Cols {
+			x[j] = v.Values[c].Num
+		}
+		out = append(out, x)
+	}
+	return out
+}
+
+// levelCombinations returns the number of combinations of the varying
+// parameters' levels, and whether every varying parameter has levels.
+func levelCombinations(r *recipe.Recipe, in *Inputs) (int, bool) {
+	n := 1
+	for _, c := range in.Cols {
+		p := r.Params[c]
+		if p.Kind != recipe.Levels {
+			return 0, false
+		}
+		n *= len(p.Values)
+	}
+	return n, true
 }
 
 // snapper returns the map of a surface point (natural units) to the

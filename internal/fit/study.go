@@ -58,7 +58,7 @@ func StudyData(r *recipe.Recipe, vs []results.Variant, quantity string) (*Inputs
 			lo, hi := slices.Min(p.Values), slices.Max(p.Values)
 			if hi > lo {
 				in.Cols = append(in.Cols, i)
-				in.Log = append(in.Log, false)
+				in.Log = append(in.Log, p.Log)
 				d.Bounds.Lo, d.Bounds.Hi = append(d.Bounds.Lo, lo), append(d.Bounds.Hi, hi)
 			}
 		}

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"regexp"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -395,8 +396,11 @@ func checkParams(pr *problems, r *Recipe, raws []rawParam) {
 		default:
 			pr.at(key+".mesh", "parameter %q: mesh must be \"resolution\" (cells per length), \"spacing\" (cell size), \"cells2d\" or \"cells3d\" (cell counts) (got %q)", rp.Name, rp.Mesh)
 		}
-		if rp.Log && p.Kind != Range {
-			pr.at(key+".log", "log applies only to min/max ranges; remove it from parameter %q", rp.Name)
+		switch {
+		case rp.Log && p.Kind == Choice:
+			pr.at(key+".log", "parameter %q: log applies to numbers (a min/max range or numeric levels); remove it from this list of words", rp.Name)
+		case rp.Log && p.Kind == Levels && slices.Min(p.Values) <= 0:
+			pr.at(key+".log", "parameter %q is on a log scale, so its levels must be above 0 (the smallest is %g)", rp.Name, slices.Min(p.Values))
 		}
 		r.Params = append(r.Params, p)
 	}

@@ -56,7 +56,7 @@ type Param struct {
 	Kind    Kind
 	Min     float64 // Range
 	Max     float64 // Range
-	Log     bool    // Range: points are spread evenly in log(value)
+	Log     bool    // Range: points are spread evenly in log(value); Range or numeric Levels: surfaces are fitted in log10(value)
 	Steps   int     // Range: number of levels in a factorial design (0: use the design's default)
 	Unit    string
 	Values  []float64 // Levels

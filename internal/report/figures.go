@@ -7,6 +7,7 @@ import (
 	"image/color"
 	"math"
 	"regexp"
+	"sort"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -743,4 +744,258 @@ func (h haloGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
 	draw.CircleGlyph{}.DrawGlyph(c, draw.GlyphStyle{Radius: sty.Radius * 1.2}, pt)
 	c.SetColor(sty.Color)
 	h.GlyphDrawer.DrawGlyph(c, sty, pt)
+}
+
+// curveFigure draws a one-parameter surface: the fitted mean as a line in
+// its 95 % band, and the runs as dots with their own 95 % error bars.
+func curveFigure(c *Curve, response string) (template.HTML, error) {
+	if c == nil || len(c.X) < 2 {
+		return "", nil
+	}
+	p := newPlot(c.Param, response)
+	var band plotter.XYs
+	var line plotter.XYs
+	for i, x := range c.X {
+		if finite(c.Mean[i]) {
+			line = append(line, plotter.XY{X: x, Y: c.Mean[i]})
+		}
+	}
+	for i, x := range c.X {
+		if finite(c.Mean[i]) && finite(c.HalfWidth[i]) {
+			band = append(band, plotter.XY{X: x, Y: c.Mean[i] + c.HalfWidth[i]})
+		}
+	}
+	for i := len(c.X) - 1; i >= 0; i-- {
+		if finite(c.Mean[i]) && finite(c.HalfWidth[i]) {
+			band = append(band, plotter.XY{X: c.X[i], Y: c.Mean[i] - c.HalfWidth[i]})
+		}
+	}
+	if len(band) >= 3 {
+		poly, err := plotter.NewPolygon(band)
+		if err != nil {
+			return "", err
+		}
+		poly.Color = colBand
+		poly.LineStyle.Width = 0
+		p.Add(poly)
+		p.Legend.Add("95 % interval of the fit", poly)
+	}
+	if len(line) >= 2 {
+		l, err := plotter.NewLine(line)
+		if err != nil {
+			return "", err
+		}
+		l.Color = colAccent
+		l.Width = vg.Points(1.5)
+		p.Add(l)
+		p.Legend.Add("fitted mean", l)
+	}
+	var runs plotter.XYs
+	var errs plotter.YErrors
+	for i := range c.RunX {
+		if !finite(c.RunY[i]) {
+			continue
+		}
+		hw := 0.0
+		if i < len(c.RunHalfWide) && finite(c.RunHalfWide[i]) {
+			hw = c.RunHalfWide[i]
+		}
+		runs = append(runs, plotter.XY{X: c.RunX[i], Y: c.RunY[i]})
+		errs = append(errs, struct{ Low, High float64 }{-hw, hw})
+	}
+	if len(runs) > 0 {
+		eb, err := plotter.NewYErrorBars(struct {
+			plotter.XYer
+			plotter.YErrorer
+		}{runs, errs})
+		if err != nil {
+			return "", err
+		}
+		eb.Color = colInk
+		eb.CapWidth = vg.Points(6)
+		sc, err := plotter.NewScatter(runs)
+		if err != nil {
+			return "", err
+		}
+		sc.GlyphStyle = draw.GlyphStyle{Shape: draw.CircleGlyph{}, Color: colInk, Radius: vg.Points(3)}
+		p.Add(eb, sc)
+		p.Legend.Add("runs, 95 % interval", sc)
+	}
+	p.Legend.Top = true
+	return plotSVG(p, vg.Points(520), vg.Points(320))
+}
+
+// tradeoffFigure plots the variants in the plane of the first two
+// objectives, each with its 95 % error bars in both: the front of the
+// means in the accent colour, joined in order, the rest in grey, and the
+// front the surfaces predict as a dashed line.
+func tradeoffFigure(t *Tradeoff) (template.HTML, error) {
+	if t == nil || len(t.Objectives) < 2 || len(t.Rows) == 0 {
+		return "", nil
+	}
+	label := func(j int) string {
+		u := ""
+		if j < len(t.Units) {
+			u = t.Units[j]
+		}
+		return fmt.Sprintf("%s, %s is better", withUnit(t.Objectives[j], u), t.Better[j])
+	}
+	p := newPlot(label(0), label(1))
+	if len(t.Predicted) >= 2 {
+		var pts plotter.XYs
+		for _, y := range t.Predicted {
+			if finite(y[0]) && finite(y[1]) {
+				pts = append(pts, plotter.XY{X: y[0], Y: y[1]})
+			}
+		}
+		if len(pts) >= 2 {
+			l, err := plotter.NewLine(pts)
+			if err != nil {
+				return "", err
+			}
+			l.Color = colWarm
+			l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+			p.Add(l)
+		}
+	}
+	var front plotter.XYs
+	for _, group := range []struct {
+		front bool
+		col   color.Color
+	}{{false, colHistory}, {true, colAccent}} {
+		var pts plotter.XYs
+		var xe plotter.XErrors
+		var ye plotter.YErrors
+		var names []string
+		for _, r := range t.Rows {
+			if r.Front != group.front || !finite(r.Mean[0]) || !finite(r.Mean[1]) {
+				continue
+			}
+			hx, hy := r.HalfWidth[0], r.HalfWidth[1]
+			if !finite(hx) {
+				hx = 0
+			}
+			if !finite(hy) {
+				hy = 0
+			}
+			pts = append(pts, plotter.XY{X: r.Mean[0], Y: r.Mean[1]})
+			xe = append(xe, struct{ Low, High float64 }{-hx, hx})
+			ye = append(ye, struct{ Low, High float64 }{-hy, hy})
+			names = append(names, r.Label)
+		}
+		if len(pts) == 0 {
+			continue
+		}
+		ex, err := plotter.NewXErrorBars(struct {
+			plotter.XYer
+			plotter.XErrorer
+		}{pts, xe})
+		if err != nil {
+			return "", err
+		}
+		ey, err := plotter.NewYErrorBars(struct {
+			plotter.XYer
+			plotter.YErrorer
+		}{pts, ye})
+		if err != nil {
+			return "", err
+		}
+		ex.Color, ey.Color = group.col, group.col
+		ex.CapWidth, ey.CapWidth = vg.Points(4), vg.Points(4)
+		sc, err := plotter.NewScatter(pts)
+		if err != nil {
+			return "", err
+		}
+		sc.GlyphStyle = draw.GlyphStyle{Shape: draw.CircleGlyph{}, Color: group.col, Radius: vg.Points(3)}
+		p.Add(ex, ey, sc)
+		if group.front {
+			front = pts
+			if len(pts) <= 30 {
+				lb, err := plotter.NewLabels(plotter.XYLabels{XYs: pts, Labels: names})
+				if err != nil {
+					return "", err
+				}
+				for i := range lb.TextStyle {
+					lb.TextStyle[i].Font.Variant = "Sans"
+					lb.TextStyle[i].Font.Size = vg.Points(7)
+					lb.TextStyle[i].Color = colInk
+					lb.TextStyle[i].XAlign = draw.XLeft
+				}
+				lb.Offset = vg.Point{X: vg.Points(4), Y: vg.Points(2)}
+				p.Add(lb)
+			}
+		}
+	}
+	if len(front) >= 2 {
+		sorted := append(plotter.XYs(nil), front...)
+		sort.Slice(sorted, func(a, b int) bool { return sorted[a].X < sorted[b].X })
+		l, err := plotter.NewLine(sorted)
+		if err != nil {
+			return "", err
+		}
+		l.Color = colAccent
+		l.Width = vg.Points(0.8)
+		p.Add(l)
+	}
+	// The axes hold every error bar and predicted point with a margin;
+	// the objectives' own limits are dotted across them.
+	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for _, r := range t.Rows {
+		if !finite(r.Mean[0]) || !finite(r.Mean[1]) {
+			continue
+		}
+		hx, hy := math.Max(0, at(r.HalfWidth, 0)), math.Max(0, at(r.HalfWidth, 1))
+		if !finite(hx) {
+			hx = 0
+		}
+		if !finite(hy) {
+			hy = 0
+		}
+		xmin, xmax = math.Min(xmin, r.Mean[0]-hx), math.Max(xmax, r.Mean[0]+hx)
+		ymin, ymax = math.Min(ymin, r.Mean[1]-hy), math.Max(ymax, r.Mean[1]+hy)
+	}
+	for _, y := range t.Predicted {
+		if finite(y[0]) && finite(y[1]) {
+			xmin, xmax = math.Min(xmin, y[0]), math.Max(xmax, y[0])
+			ymin, ymax = math.Min(ymin, y[1]), math.Max(ymax, y[1])
+		}
+	}
+	if !(xmax > xmin) {
+		xmin, xmax = xmin-1, xmax+1
+	}
+	if !(ymax > ymin) {
+		ymin, ymax = ymin-1, ymax+1
+	}
+	padX, padY := 0.06*(xmax-xmin), 0.06*(ymax-ymin)
+	xmin, xmax, ymin, ymax = xmin-padX, xmax+padX, ymin-padY, ymax+padY
+	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xmin, xmax, ymin, ymax
+	for j := range 2 {
+		for _, v := range []float64{at(t.Lo, j), at(t.Hi, j)} {
+			if !finite(v) {
+				continue
+			}
+			var seg plotter.XYs
+			if j == 0 {
+				seg = plotter.XYs{{X: v, Y: ymin}, {X: v, Y: ymax}}
+			} else {
+				seg = plotter.XYs{{X: xmin, Y: v}, {X: xmax, Y: v}}
+			}
+			l, err := plotter.NewLine(seg)
+			if err != nil {
+				return "", err
+			}
+			l.Color = colWarm
+			l.Dashes = []vg.Length{vg.Points(1), vg.Points(2)}
+			p.Add(l)
+		}
+	}
+	return plotSVG(p, vg.Points(560), vg.Points(400))
+}
+
+// at returns v[j], or NaN beyond its end.
+func at(v []float64, j int) float64 {
+	if j < len(v) {
+		return v[j]
+	}
+	return math.NaN()
 }

@@ -16,6 +16,8 @@ type Study struct {
 	Baseline          string    // label of the baseline variant, or ""
 	Variants          []Variant
 	Surface           *Surface    // nil if no response surface was fitted
+	SurfaceNote       string      // why there is no surface, when Surface is nil
+	Tradeoff          *Tradeoff   // nil unless the report weighs several objectives
 	Mesh              []MeshStudy // may be empty
 	Caution           string      // one sentence printed prominently
 	ObjectiveUnit     string      // unit of the objective, e.g. "N"; may be empty
@@ -89,6 +91,54 @@ type Surface struct {
 	Optimum          map[string]float64
 	OptimumValue     float64
 	OptimumHalfWidth float64
+	// Choice says how the model was chosen; OptimumSource whether the
+	// optimum is the surface's ("surface") or a measured run ("run
+	// v004"); Notes what deserves caution (bounds, limits, gaps).
+	Choice        string
+	OptimumSource string
+	Notes         []string
+	// Curve, for a study of one numeric parameter, is the fitted curve
+	// with the runs.
+	Curve *Curve
+}
+
+// Curve is a one-parameter surface: the fitted mean and the half-width of
+// its 95 % interval at X, and the runs with their own 95 % half-widths.
+type Curve struct {
+	Param                   string
+	X, Mean, HalfWidth      []float64
+	RunX, RunY, RunHalfWide []float64
+}
+
+// Tradeoff weighs two or more objectives: every variant's averages with
+// their 95 % half-widths, which are on the front, and the front the
+// surfaces predict. The figure plots the first two objectives.
+type Tradeoff struct {
+	Objectives []string // names, e.g. "drag", "downforce"
+	Better     []string // "lower" or "higher", per objective
+	Units      []string
+	Limits     []string // the recipe's limits, in words
+	// Lo and Hi hold each objective's own limits (±Inf for none), drawn
+	// as dotted lines.
+	Lo, Hi []float64
+	Rows   []TradeRow
+	// Predicted holds the predicted front's points, each with one mean
+	// per objective (nil when no front could be predicted, with
+	// PredictedNote saying why).
+	Predicted     [][]float64
+	PredictedNote string
+	Draws         int
+}
+
+// TradeRow is one variant of a trade-off: Mean[j] ± HalfWidth[j] for
+// objective j.
+type TradeRow struct {
+	Label           string
+	Params          map[string]string
+	Mean, HalfWidth []float64
+	Front           bool    // on the front of the means
+	Chance          float64 // of being on the front
+	Status          string  // in words
 }
 
 // Sensitivity holds the first-order and total Sobol' indices of one

@@ -18,6 +18,7 @@ table{border-collapse:collapse;margin:.6em 0;font-variant-numeric:tabular-nums}
 th,td{padding:.3em .7em;text-align:left;border-bottom:1px solid var(--line);vertical-align:top}
 th{font-weight:600;border-bottom:2px solid var(--ink);white-space:nowrap}
 td.num{text-align:right;white-space:nowrap}
+tr.front td{font-weight:600;background:#eef4f9}
 .grid2{display:flex;flex-wrap:wrap;gap:2em;align-items:flex-start}
 .counts span{display:inline-block;margin-right:1.2em}
 .counts b{font-size:1.2em}
@@ -87,6 +88,20 @@ var page = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 {{else}}<p>No variant has been ranked yet.</p>{{end}}
 </section>
 
+{{with .Tradeoff}}
+<section id="tradeoff">
+<h2>Trade-off</h2>
+<p>{{.Title}}{{with .Limits}}, within {{.}}{{end}}. The front holds the variants no other beats in every objective{{if .Limits}} while keeping the limits{{end}}; the chance of being on it accounts for every average's uncertainty ({{.Draws}} draws, each average normal with its standard error).</p>
+<table id="tradeoff-table">
+<thead><tr><th>Variant</th>{{range $.ParamNames}}<th>{{.}}</th>{{end}}{{range .Objectives}}<th>{{.}} ± 95 % half-width</th>{{end}}<th>Chance on front</th><th>Status</th></tr></thead>
+<tbody>
+{{range .Rows}}<tr{{if .Front}} class="front"{{end}}><td>{{.Label}}</td>{{range .Params}}<td>{{.}}</td>{{end}}{{range .Values}}<td class="num">{{.}}</td>{{end}}<td class="num">{{.Chance}}</td><td>{{.Status}}</td></tr>
+{{end}}</tbody>
+</table>
+{{if .Figure}}<figure>{{.Figure}}<figcaption>Each variant's averages of the first two objectives with their 95 % intervals. Blue, joined and labelled: the front of the measured means; grey: the other variants; orange dashes: the front the response surfaces predict (a model's: confirm a point by running it); orange dots: the limits of a plotted objective.</figcaption></figure>{{end}}
+{{with .PredictedNote}}<p class="sub">{{.}}</p>{{end}}
+</section>
+{{end}}
 <section id="variants">
 <h2>Variants</h2>
 {{range .Variants}}<details{{if .Open}} open{{end}}>
@@ -116,10 +131,13 @@ var page = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 <dt>Leave-one-out RMSE</dt><dd>{{.LOORMSE}}</dd>
 <dt>Noise (run scatter)</dt><dd>{{.Noise}}</dd>
 {{with .Q2}}<dt>Q²</dt><dd>{{.}}</dd>{{end}}
-<dt>Predicted optimum</dt><dd>{{.OptimumValue}}</dd>
+{{with .Choice}}<dt>Chosen</dt><dd>{{.}}</dd>{{end}}
+<dt>Recommended optimum</dt><dd>{{.OptimumValue}}{{with .Source}} ({{if eq . "surface"}}the surface's prediction{{else}}{{.}}, measured{{end}}){{end}}</dd>
 {{range .Optimum}}<dt>at {{.K}}</dt><dd>{{.V}}</dd>{{end}}
 </dl>
 {{with .Flag}}<p class="flag">{{.}}</p>{{end}}
+{{with .Notes}}<ul class="warn">{{range .}}<li>{{.}}</li>{{end}}</ul>{{end}}
+{{if .Curve}}<figure>{{.Curve}}<figcaption>{{$.Surface.Response}} against {{.CurveParam}}: the fitted mean in its 95 % band, and the runs with their own 95 % intervals.</figcaption></figure>{{end}}
 {{range .Contours}}<figure>{{.Figure}}<figcaption>{{$.Surface.Response}} over {{.XName}} and {{.YName}}, other parameters at the optimum. Circles: runs; cross: predicted optimum.</figcaption></figure>
 {{end}}
 <div class="grid2">
@@ -133,8 +151,15 @@ var page = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 {{end}}</tbody>
 </table>
 <p class="sub">± one standard error.</p>{{end}}
+{{with .SensNote}}<p class="sub">{{.}}</p>{{end}}
 </section>
 {{end}}
+{{if not .Surface}}{{with .SurfaceNote}}
+<section id="surface">
+<h2>Response surface</h2>
+<p>No surface is shown: {{.}}</p>
+</section>
+{{end}}{{end}}
 {{if .Mesh}}
 <section id="mesh">
 <h2>Mesh studies</h2>

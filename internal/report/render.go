@@ -79,6 +79,30 @@ type surfaceView struct {
 	LOO             template.HTML
 	Sens            template.HTML
 	Sensitivities   []Sensitivity
+	Choice, Source  string
+	Notes           []string
+	Curve           template.HTML
+	CurveParam      string
+	SensNote        string
+}
+
+type tradeRowView struct {
+	Label  string
+	Params []string
+	Values []string
+	Chance string
+	Status string
+	Front  bool
+}
+
+type tradeView struct {
+	Objectives    []string
+	Title         string
+	Limits        string
+	Rows          []tradeRowView
+	Figure        template.HTML
+	PredictedNote string
+	Draws         int
 }
 
 type meshRow struct{ H, Value string }
@@ -107,6 +131,8 @@ type view struct {
 	RankFigure                   template.HTML
 	Variants                     []variantView
 	Surface                      *surfaceView
+	SurfaceNote                  string
+	Tradeoff                     *tradeView
 	Mesh                         []meshView
 }
 
@@ -251,6 +277,12 @@ func buildView(s *Study) (*view, error) {
 			return nil, err
 		}
 	}
+	v.SurfaceNote = s.SurfaceNote
+	if s.Tradeoff != nil {
+		if v.Tradeoff, err = buildTradeoff(s.Tradeoff, v.ParamNames); err != nil {
+			return nil, err
+		}
+	}
 	for _, m := range s.Mesh {
 		mv, err := buildMesh(m, objLabel)
 		if err != nil {
@@ -299,14 +331,54 @@ func buildSurface(s *Surface) (*surfaceView, error) {
 		}
 		sv.Contours = append(sv.Contours, contourView{c.XName, c.YName, fig})
 	}
+	sv.Choice, sv.Source, sv.Notes = s.Choice, s.OptimumSource, s.Notes
 	var err error
+	if s.Curve != nil {
+		sv.CurveParam = s.Curve.Param
+		if sv.Curve, err = curveFigure(s.Curve, s.Response); err != nil {
+			return nil, err
+		}
+	}
 	if sv.LOO, err = looFigure(s); err != nil {
 		return nil, err
 	}
-	if sv.Sens, err = sensitivityFigure(s.Sensitivities); err != nil {
+	if len(s.Sensitivities) == 1 {
+		// One parameter owns all the variance: nothing to estimate.
+		sv.Sensitivities = nil
+		sv.SensNote = fmt.Sprintf("With one parameter, %s, its Sobol' index is 1 by definition.", s.Sensitivities[0].Param)
+	} else if sv.Sens, err = sensitivityFigure(s.Sensitivities); err != nil {
 		return nil, err
 	}
 	return sv, nil
+}
+
+func buildTradeoff(t *Tradeoff, params []string) (*tradeView, error) {
+	tv := &tradeView{PredictedNote: t.PredictedNote, Draws: t.Draws, Limits: strings.Join(t.Limits, ", ")}
+	var what []string
+	for j, o := range t.Objectives {
+		u := ""
+		if j < len(t.Units) {
+			u = t.Units[j]
+		}
+		tv.Objectives = append(tv.Objectives, withUnit(o, u))
+		what = append(what, fmt.Sprintf("%s (%s is better)", o, t.Better[j]))
+	}
+	tv.Title = strings.Join(what, " against ")
+	for _, r := range t.Rows {
+		rv := tradeRowView{Label: r.Label, Chance: fmt.Sprintf("%.0f %%", 100*r.Chance), Status: r.Status, Front: r.Front}
+		for _, k := range params {
+			rv.Params = append(rv.Params, r.Params[k])
+		}
+		for j := range r.Mean {
+			rv.Values = append(rv.Values, fmtPM(r.Mean[j], r.HalfWidth[j]))
+		}
+		tv.Rows = append(tv.Rows, rv)
+	}
+	var err error
+	if tv.Figure, err = tradeoffFigure(t); err != nil {
+		return nil, err
+	}
+	return tv, nil
 }
 
 func buildMesh(m MeshStudy, ylabel string) (meshView, error) {

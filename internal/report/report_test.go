@@ -399,3 +399,54 @@ func BenchmarkRender(b *testing.B) {
 		}
 	}
 }
+
+// Ensure that a one-parameter surface is drawn as a curve with its band
+// and the runs' error bars, that its single index is said to be 1 by
+// definition instead of drawn, and that a study without a surface says
+// why in the surface section.
+func TestRenderCurveAndNoSurface(t *testing.T) {
+	s := Study{Name: "curve", Objective: "drag", Better: "lower"}
+	c := &Curve{Param: "re"}
+	for i := range 41 {
+		x := 10 + 30*float64(i)/40
+		c.X, c.Mean, c.HalfWidth = append(c.X, x), append(c.Mean, 80/x), append(c.HalfWidth, 0.2)
+	}
+	for _, x := range []float64{10, 20, 30, 40} {
+		c.RunX, c.RunY, c.RunHalfWide = append(c.RunX, x), append(c.RunY, 80/x), append(c.RunHalfWide, 0.05)
+	}
+	s.Surface = &Surface{Model: "quadratic", Response: "drag", Curve: c, Observed: []float64{8, 4, 2.7, 2}, LOOPredicted: []float64{8.1, 4, 2.6, 2.1},
+		Sensitivities: []Sensitivity{{Param: "re", First: 1, Total: 1}}, OptimumSource: "run v004", OptimumValue: 2, OptimumHalfWidth: 0.05}
+	out := render(t, s)
+	sec := out[strings.Index(out, `<section id="surface">`):]
+	if !strings.Contains(sec, "drag against re: the fitted mean in its 95 % band") || strings.Count(sec, "<svg") != 2 {
+		t.Errorf("curve section: %d figures (want the curve and the leave-one-out check)\n%.2000s", strings.Count(sec, "<svg"), sec)
+	}
+	if !strings.Contains(sec, "its Sobol&#39; index is 1 by definition") || !strings.Contains(sec, "(run v004, measured)") {
+		t.Errorf("curve section lacks the index note or the optimum's source")
+	}
+	out = render(t, Study{Name: "none", SurfaceNote: "2 variants have an average of drag with an interval, and a surface needs at least 3"})
+	if !strings.Contains(out, "No surface is shown: 2 variants have an average of drag") {
+		t.Errorf("no surface note in:\n%s", out)
+	}
+}
+
+// Ensure that a trade-off section lists every variant with its averages
+// and its status, marks the front, says the limits and draws one figure.
+func TestRenderTradeoff(t *testing.T) {
+	tr := &Tradeoff{Objectives: []string{"drag", "downforce"}, Better: []string{"lower", "higher"}, Limits: []string{"lift ≤ 0.3"},
+		Lo: []float64{math.Inf(-1), math.Inf(-1)}, Hi: []float64{math.Inf(1), 2.4}, Draws: 5000,
+		Predicted: [][]float64{{1, 1}, {1.2, 2}, {1.5, 2.5}}}
+	for i, m := range [][2]float64{{1, 1}, {1.2, 2}, {1.5, 2.5}, {1.3, 1.9}} {
+		tr.Rows = append(tr.Rows, TradeRow{Label: "v00" + strconv.Itoa(i+1), Params: map[string]string{}, Mean: m[:], HalfWidth: []float64{0.01, 0.02},
+			Front: i < 3, Chance: map[bool]float64{true: 1, false: 0}[i < 3], Status: "on the front"})
+	}
+	out := render(t, Study{Name: "trade", Tradeoff: tr})
+	sec := out[strings.Index(out, `<section id="tradeoff">`):]
+	sec = sec[:strings.Index(sec, "</section>")]
+	if n := strings.Count(sec, `<tr class="front">`); n != 3 {
+		t.Errorf("front rows %d, want 3", n)
+	}
+	if n := strings.Count(sec, "<svg"); n != 1 || !strings.Contains(sec, "within lift ≤ 0.3") || !strings.Contains(sec, "1.200 ± 0.010") {
+		t.Errorf("trade-off section:\n%s", sec)
+	}
+}

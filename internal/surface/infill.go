@@ -49,7 +49,7 @@ type InfillOptions struct {
 	// point; zero means max(1000, 300·k).
 	Candidates int
 	// MinDist is the smallest distance, in the unit cube, allowed between
-	// a proposal and any run or earlier proposal. Zero means a quarter of
+	// a proposal and any run or earlier proposal. Zero means a tenth of
 	// the runs' median nearest-neighbour spacing, or 0.01 if that is
 	// smaller.
 	MinDist float64
@@ -61,6 +61,10 @@ type InfillOptions struct {
 	// it is scored, so a proposal never repeats a run or an earlier
 	// proposal.
 	Snap func(x []float64) []float64
+	// Avoid lists points (natural units) that are planned but not among
+	// the model's runs (pending, failed): proposals keep from them as
+	// from the runs.
+	Avoid [][]float64
 	// Seed seeds the candidate designs.
 	Seed uint64
 }
@@ -187,6 +191,11 @@ func search(ms []*Kriging, g goal, believe func(ms []*Kriging, x []float64) []fl
 			if nearest(u, runs) > 0 {
 				runs = append(runs, u)
 			}
+		}
+	}
+	for _, x := range opts.Avoid {
+		if u := b.toUnit(x); nearest(u, runs) > 0 {
+			runs = append(runs, u)
 		}
 	}
 	if opts.MinDist <= 0 {
