@@ -23,6 +23,7 @@ type fitOptions struct {
 	terms    string
 	table    string
 	response string
+	params   string
 	maximize bool
 	seed     uint64
 	json     bool
@@ -50,8 +51,12 @@ optimum within the bounds (and the recipe's constraints) with its 95 %
 interval, compared with the best measured run, the parameters' Sobol'
 sensitivity indices, and for one parameter the fitted curve.
 
-fit --table FILE.csv --response COLUMN fits a plain table instead (one
-column per parameter plus the response), for results from elsewhere.`,
+fit --table FILE.csv --response COLUMN fits a table instead: one row per
+run, one column per parameter plus the response; columns of words are left
+out unless named with --params (which refuses them: a surface needs
+numbers). The program's own results/summary.csv is read as it is: its
+parameters, the response by its quantity's name (drag for drag_mean) and
+each run's standard error.`,
 		Args: maxOneDir,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runFit(cmd, opts, args)
@@ -62,7 +67,8 @@ column per parameter plus the response), for results from elsewhere.`,
 	f.StringVar(&opts.quantity, "quantity", "", "the quantity to fit (default: the recipe's objective)")
 	f.StringVar(&opts.terms, "terms", "", `polynomial terms, e.g. "1, x, x^2, x^3" (overrides --model)`)
 	f.StringVar(&opts.table, "table", "", "fit this CSV table instead of a study")
-	f.StringVar(&opts.response, "response", "", "with --table: the response column")
+	f.StringVar(&opts.response, "response", "", "with --table: the response column (for the program's results/summary.csv, a quantity's name)")
+	f.StringVar(&opts.params, "params", "", "with --table: the parameter columns, separated by commas (default: every numeric column besides the response)")
 	f.BoolVar(&opts.maximize, "higher-better", false, "with --table: higher responses are better, so the optimum is a maximum (a study uses its quantity's better = ...)")
 	f.Uint64Var(&opts.seed, "seed", 1, "seed of the optimiser's starts and the sensitivity samples")
 	f.BoolVar(&opts.json, "json", false, "print the fit as JSON")
@@ -79,15 +85,25 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 		if opts.response == "" {
 			return usageError{errors.New("--table needs --response COLUMN, the column to fit")}
 		}
-		d, err := fit.TableData(opts.table, opts.response)
+		var params []string
+		if opts.params != "" {
+			params = strings.Split(opts.params, ",")
+		}
+		d, info, err := fit.ReadTable(opts.table, opts.response, params...)
 		if err != nil {
 			return usageError{err}
 		}
-		rep, err = fit.Fit(d, fit.Options{Model: opts.model, Terms: opts.terms, Maximize: opts.maximize, Seed: opts.seed})
+		rep, err = fit.Fit(d, fit.Options{Model: opts.model, Terms: opts.terms, Maximize: opts.maximize, Seed: opts.seed, Labels: info.Labels})
 		if err != nil {
 			return err
 		}
 		rep.Response = opts.response
+		if len(info.Ignored) > 0 {
+			rep.Notes = append(rep.Notes, "columns left out: "+strings.Join(info.Ignored, ", ")+" (name the parameters with --params to choose them)")
+		}
+		if info.Skipped > 0 {
+			rep.Notes = append(rep.Notes, fmt.Sprintf("%d rows left out: no average of %s with a standard error (failed, too short or not run)", info.Skipped, opts.response))
+		}
 	} else {
 		h, err := harvestStudy(cmd, studyDir(args), opts.quantity, true)
 		if err != nil {

@@ -173,3 +173,30 @@ func TestTableBad(t *testing.T) {
 		})
 	}
 }
+
+// Ensure that text columns of a table are left out and named, that
+// --params chooses the parameter columns and refuses one of words at its
+// line, and that the program's own summary keeps its runs' labels.
+func TestTableParams(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "runs.csv")
+	os.WriteFile(path, []byte("case,a,b,y\nfirst,1,5,2\nsecond,2,6,3\nthird,3,8,5\n"), 0o644)
+	d, info, err := ReadTable(path, "y")
+	if err != nil || strings.Join(d.Names, ",") != "a,b" || strings.Join(info.Ignored, ",") != "case" {
+		t.Errorf("names %v, ignored %v, %v", d.Names, info.Ignored, err)
+	}
+	d, info, err = ReadTable(path, "y", "b")
+	if err != nil || strings.Join(d.Names, ",") != "b" || strings.Join(info.Ignored, ",") != "case,a" || d.X[2][0] != 8 {
+		t.Errorf("--params b: names %v, ignored %v, %v", d.Names, info.Ignored, err)
+	}
+	if _, _, err := ReadTable(path, "y", "case"); err == nil || !strings.HasSuffix(err.Error(), `runs.csv:2: column "case" holds "first", not a number: a surface needs numeric parameters; fit the rows of each value apart (a table of its own), or leave the column out`) {
+		t.Errorf("a text column named: %v", err)
+	}
+	sum := filepath.Join(dir, "summary.csv")
+	os.WriteFile(sum, []byte("id,label,name,state,r,shape,drag_mean,drag_half_width,drag_std_error\n"+
+		"x1,v001,,done,1,round,2.0,0.02,0.01\nx2,v002,,done,2,round,1.5,0.02,0.01\nx3,v003,,failed,3,round,,,\nx4,v004,,done,4,round,1.2,0.02,0.01\n"), 0o644)
+	d, info, err = ReadTable(sum, "drag")
+	if err != nil || strings.Join(info.Labels, ",") != "v001,v002,v004" || info.Skipped != 1 || strings.Join(d.Names, ",") != "r" || strings.Join(info.Ignored, ",") != "shape" || d.SE[0] != 0.01 {
+		t.Errorf("summary: names %v labels %v skipped %d ignored %v SE %v, %v", d.Names, info.Labels, info.Skipped, info.Ignored, d.SE, err)
+	}
+}

@@ -118,8 +118,8 @@ func StudyData(r *recipe.Recipe, vs []results.Variant, quantity string) (*Inputs
 // run's standard error comes from <quantity>_std_error, and runs whose
 // response is empty (failed, too short) are left out. The bounds are the
 // parameter columns' ranges.
-func TableData(path, response string) (surface.Data, error) {
-	d, _, err := ReadTable(path, response)
+func TableData(path, response string, params ...string) (surface.Data, error) {
+	d, _, err := ReadTable(path, response, params...)
 	return d, err
 }
 
@@ -129,12 +129,26 @@ type Table struct {
 	Ignored []string
 	// Skipped counts rows without a response value.
 	Skipped int
-	// Summary is true for the program's own results/summary.csv.
+	// Summary is true for the program's own results/summary.csv, and
+	// Labels then names each run, parallel to the data.
 	Summary bool
+	Labels  []string
+}
+
+// numericColumn reports whether any cell of column i is a number.
+func numericColumn(rows [][]string, i int) bool {
+	for _, rec := range rows {
+		if _, err := strconv.ParseFloat(strings.TrimSpace(rec[i]), 64); err == nil {
+			return true
+		}
+	}
+	return false
 }
 
 // ReadTable reads a table as TableData does and says what it ignored.
-func ReadTable(path, response string) (surface.Data, Table, error) {
+// Named params are the parameter columns instead of those found: each
+// must be a column of numbers.
+func ReadTable(path, response string, params ...string) (surface.Data, Table, error) {
 	var d surface.Data
 	var info Table
 	f, err := os.Open(path)
@@ -178,15 +192,21 @@ func ReadTable(path, response string) (surface.Data, Table, error) {
 		rows, lines = append(rows, rec), append(lines, line)
 	}
 	resp, seCol := -1, -1
-	params := []int{}
+	named := params
+	var cols []int
 	info.Summary = len(head) > 4 && strings.Join(head[:4], ",") == "id,label,name,state"
 	if info.Summary {
-		// The program's summary: parameters until the first quantity.
+		// The program's summary: parameters until the first quantity;
+		// a choice parameter's column holds words and is left out.
 		for i := 4; i < len(head); i++ {
 			if strings.HasSuffix(head[i], "_mean") {
 				break
 			}
-			params = append(params, i)
+			if numericColumn(rows, i) {
+				cols = append(cols, i)
+			} else {
+				info.Ignored = append(info.Ignored, head[i])
+			}
 		}
 		for i, h := range head {
 			if h == response || h == response+"_mean" {
@@ -209,15 +229,8 @@ func ReadTable(path, response string) (surface.Data, Table, error) {
 			// names) and is left out; one where some are is numeric, and
 			// a cell that is not ("oops", but also "nan") is refused below
 			// rather than turning the column into text.
-			numeric := false
-			for _, rec := range rows {
-				if _, err := strconv.ParseFloat(strings.TrimSpace(rec[i]), 64); err == nil {
-					numeric = true
-					break
-				}
-			}
-			if numeric {
-				params = append(params, i)
+			if numericColumn(rows, i) {
+				cols = append(cols, i)
 			} else {
 				info.Ignored = append(info.Ignored, h)
 			}
@@ -226,10 +239,34 @@ func ReadTable(path, response string) (surface.Data, Table, error) {
 	if resp < 0 {
 		return d, info, fmt.Errorf("%s: no column %q; the header has %s (name the response with --response)", path, response, strings.Join(head, ", "))
 	}
-	if len(params) == 0 {
+	if len(named) > 0 {
+		cols = cols[:0]
+		info.Ignored = nil
+		for _, n := range named {
+			k := slices.Index(head, n)
+			if k < 0 {
+				return d, info, fmt.Errorf("%s: no column %q; the header has %s", path, n, strings.Join(head, ", "))
+			}
+			if k == resp {
+				return d, info, fmt.Errorf("%s: column %q is the response; it cannot be a parameter too", path, n)
+			}
+			for r, rec := range rows {
+				if _, err := strconv.ParseFloat(strings.TrimSpace(rec[k]), 64); err != nil {
+					return d, info, fmt.Errorf("%s:%d: column %q holds %q, not a number: a surface needs numeric parameters; fit the rows of each value apart (a table of its own), or leave the column out", path, lines[r], n, rec[k])
+				}
+			}
+			cols = append(cols, k)
+		}
+		for i, h := range head {
+			if i != resp && !slices.Contains(cols, i) {
+				info.Ignored = append(info.Ignored, h)
+			}
+		}
+	}
+	if len(cols) == 0 {
 		return d, info, fmt.Errorf("%s: no numeric parameter column beside the response", path)
 	}
-	for _, i := range params {
+	for _, i := range cols {
 		d.Names = append(d.Names, head[i])
 	}
 	for r, rec := range rows {
@@ -242,8 +279,8 @@ func ReadTable(path, response string) (surface.Data, Table, error) {
 		if err != nil || math.IsNaN(y) || math.IsInf(y, 0) {
 			return d, info, fmt.Errorf("%s:%d: %q (column %s) is not a finite number", path, lines[r], rec[resp], head[resp])
 		}
-		x := make([]float64, len(params))
-		for j, i := range params {
+		x := make([]float64, len(cols))
+		for j, i := range cols {
 			v, err := strconv.ParseFloat(strings.TrimSpace(rec[i]), 64)
 			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 				return d, info, fmt.Errorf("%s:%d: %q (column %s) is not a finite number", path, lines[r], rec[i], head[i])
@@ -259,6 +296,9 @@ func ReadTable(path, response string) (surface.Data, Table, error) {
 			d.SE = append(d.SE, se)
 		}
 		d.X, d.Y = append(d.X, x), append(d.Y, y)
+		if info.Summary {
+			info.Labels = append(info.Labels, strings.TrimSpace(rec[1]))
+		}
 	}
 	if len(d.Y) == 0 {
 		return d, info, fmt.Errorf("%s: no data rows", path)

@@ -167,7 +167,7 @@ func FindOptimum(m Model, opts OptimumOptions) (*Optimum, error) {
 	o.NearestRun = nearest(best.u, runs)
 	o.Spacing = medianSpacing(runs)
 	if o.NearestRun > o.Spacing {
-		o.Warnings = append(o.Warnings, fmt.Sprintf("the optimum is %.3g from the nearest run (unit box), farther than the runs' median spacing %.3g: run a variant there to confirm it", o.NearestRun, o.Spacing))
+		o.Warnings = append(o.Warnings, fmt.Sprintf("the optimum is %.1f design spacings from the nearest run (%.3g in the unit box, against the runs' median spacing of %.3g): the surface is least supported there; run a variant there to confirm it", o.NearestRun/o.Spacing, o.NearestRun, o.Spacing))
 	}
 	return o, nil
 }
