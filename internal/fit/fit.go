@@ -332,14 +332,17 @@ func Fit(d surface.Data, opts Options) (*Report, error) {
 	}
 	if opt != nil {
 		x := toNatural(opt.X, opts.Log)
-		o := &Optimum{Params: map[string]float64{}, Value: opt.Mean, HalfWidth: opt.HalfWidth, Source: "surface", Warnings: opt.Warnings, X: x,
+		// The surface words its bound warnings in the fitted inputs
+		// (log10 of a log parameter): say them in natural units.
+		warnings := append(atBound(d, x), opt.Warnings[len(opt.AtBound):]...)
+		o := &Optimum{Params: map[string]float64{}, Value: opt.Mean, HalfWidth: opt.HalfWidth, Source: "surface", Warnings: warnings, X: x,
 			Limits: limitValues(opts.Limits, x)}
 		for j, n := range d.Names {
 			o.Params[n] = x[j]
 		}
 		rep.Optimum = o
 		if rep.Best != nil {
-			if note, proven := compareBest(o, opt.SD, rep.Best, opts.Maximize); !proven {
+			if note, proven := compareBest(o, rep.Best, opts.Maximize); !proven {
 				// No proven improvement on a measured run: that run is
 				// the honest answer, the surface's optimum a prediction.
 				b := rep.Best
@@ -552,14 +555,16 @@ func limitTexts(ls []LimitSurface) string {
 
 // compareBest says how the surface's optimum stands against the best
 // measured run, and whether it is a proven improvement on it: better by
-// more than their combined 95 % uncertainty. A prediction worse than the
-// run beyond that uncertainty means the surface misses the runs there.
-func compareBest(o *Optimum, sd float64, best *Run, maximize bool) (note string, proven bool) {
-	se := best.HalfWidth / 1.959964
-	if math.IsNaN(se) {
-		se = 0
+// more than their combined 95 % uncertainty, the two half-widths added in
+// quadrature (each with its own critical value: a surface fitted with few
+// degrees of freedom has a wide one). A prediction worse than the run
+// beyond that uncertainty means the surface misses the runs there.
+func compareBest(o *Optimum, best *Run, maximize bool) (note string, proven bool) {
+	hw := best.HalfWidth
+	if math.IsNaN(hw) {
+		hw = 0
 	}
-	comb := 1.959964 * math.Hypot(sd, se)
+	comb := math.Hypot(o.HalfWidth, hw)
 	gain := best.Value - o.Value // positive: the optimum is lower
 	if maximize {
 		gain = -gain
@@ -630,24 +635,29 @@ func sensitivities(m surface.Model, names []string, seed uint64) []Sensitivity {
 	idx := surface.Sensitivities(m, surface.SobolOptions{N: 4096, Bootstrap: 100, Seed: seed})
 	out := make([]Sensitivity, len(names))
 	for j, n := range names {
-		s := Sensitivity{Param: n, First: idx.First[j], FirstSE: idx.FirstSE[j], Total: idx.Total[j], TotalSE: idx.TotalSE[j]}
-		var clipped []string
-		for _, v := range []struct {
-			name string
-			x    *float64
-			se   float64
-		}{{"main effect", &s.First, s.FirstSE}, {"total effect", &s.Total, s.TotalSE}} {
-			if c := math.Max(0, math.Min(1, *v.x)); c != *v.x {
-				clipped = append(clipped, fmt.Sprintf("%s estimate %.3f ± %.3f", v.name, *v.x, v.se))
-				*v.x = c
-			}
-		}
-		if clipped != nil {
-			s.Note = strings.Join(clipped, ", ") + " clipped to [0, 1]"
-		}
-		out[j] = s
+		out[j] = clipIndices(Sensitivity{Param: n, First: idx.First[j], FirstSE: idx.FirstSE[j], Total: idx.Total[j], TotalSE: idx.TotalSE[j]})
 	}
 	return out
+}
+
+// clipIndices clips estimated indices into [0, 1], where true indices
+// lie, and says so with the estimates.
+func clipIndices(s Sensitivity) Sensitivity {
+	var clipped []string
+	for _, v := range []struct {
+		name string
+		x    *float64
+		se   float64
+	}{{"main effect", &s.First, s.FirstSE}, {"total effect", &s.Total, s.TotalSE}} {
+		if c := math.Max(0, math.Min(1, *v.x)); c != *v.x {
+			clipped = append(clipped, fmt.Sprintf("%s estimate %.3f ± %.3f", v.name, *v.x, v.se))
+			*v.x = c
+		}
+	}
+	if clipped != nil {
+		s.Note = strings.Join(clipped, ", ") + " clipped to [0, 1]"
+	}
+	return s
 }
 
 // curve samples a one-parameter surface at 41 points across its range

@@ -200,3 +200,68 @@ func TestTableParams(t *testing.T) {
 		t.Errorf("summary: names %v labels %v skipped %d ignored %v SE %v, %v", d.Names, info.Labels, info.Skipped, info.Ignored, d.SE, err)
 	}
 }
+
+// Ensure that a parameter declared log = true is fitted in log10 of its
+// value: a power law y = 10 x^(−1/2) on x from 1 to 100 (five runs, evenly
+// spread in log x) is a straight line in log10 x only after y's log is
+// taken, but a quadratic in log10 x already predicts it to a small
+// fraction of what the quadratic in x does, and the terms say the
+// scale.
+func TestFitLogParameter(t *testing.T) {
+	d := surface.Data{Names: []string{"x"}, Bounds: surface.Bounds{Lo: []float64{1}, Hi: []float64{100}}}
+	for _, x := range []float64{1, 3.16227766, 10, 31.6227766, 100} {
+		d.X, d.Y, d.SE = append(d.X, []float64{x}), append(d.Y, 10/math.Sqrt(x)), append(d.SE, 1e-4)
+	}
+	plain, err := Fit(d, Options{Model: "quadratic"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	logged, err := Fit(d, Options{Model: "quadratic", Log: []bool{true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(logged.LOORMSE < plain.LOORMSE/5) {
+		t.Errorf("leave-one-out error %.3g in log10 x, %.3g in x: want five times smaller", logged.LOORMSE, plain.LOORMSE)
+	}
+	if logged.Terms[1].Name != "log10(x)" || strings.Join(logged.LogParams, ",") != "x" {
+		t.Errorf("terms %+v, log params %v", logged.Terms, logged.LogParams)
+	}
+	// The curve is sampled evenly in log10 x and reported in x.
+	if c := logged.Curve; len(c) != 41 || math.Abs(c[20].X-10) > 1e-9 || math.Abs(c[20].Mean-10/math.Sqrt(10)) > 0.1 {
+		t.Errorf("curve midpoint %+v", c[20])
+	}
+}
+
+// Ensure that a surface's optimum is not taken for an improvement on a
+// run when its interval, wide for a fit with one degree of freedom, holds
+// the run's value: three runs on a straight line in log10 x put the
+// surface's optimum 0.34 below the run at the bound, within its ±2.1.
+func TestFitOptimumNotProven(t *testing.T) {
+	d := surface.Data{Names: []string{"re"}, Bounds: surface.Bounds{Lo: []float64{10}, Hi: []float64{40}}}
+	for i, x := range []float64{10, 20, 40} {
+		d.X, d.Y, d.SE = append(d.X, []float64{x}), append(d.Y, []float64{3.51305, 2.47002, 1.8421}[i]), append(d.SE, []float64{8e-5, 2e-4, 9e-4}[i])
+	}
+	rep, err := Fit(d, Options{Log: []bool{true}, Labels: []string{"v001", "v002", "v003"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if o := rep.Optimum; o.Source != "run v003" || o.Value != 1.8421 || rep.Predicted == nil || rep.Predicted.HalfWidth < 1 {
+		t.Errorf("optimum %+v, predicted %+v", o, rep.Predicted)
+	}
+	if w := strings.Join(rep.Optimum.Warnings, " "); !strings.Contains(w, "re = 40 is at its upper bound") || strings.Contains(w, "log10") {
+		t.Errorf("warnings %q", w)
+	}
+}
+
+// Ensure that Sobol' estimates outside [0, 1], where true indices lie,
+// are clipped with the estimate and its error kept in the note, and that
+// estimates inside are left alone.
+func TestClipIndices(t *testing.T) {
+	s := clipIndices(Sensitivity{Param: "a", First: -0.002, FirstSE: 0.002, Total: 1.012, TotalSE: 0.01})
+	if s.First != 0 || s.Total != 1 || s.Note != "main effect estimate -0.002 ± 0.002, total effect estimate 1.012 ± 0.010 clipped to [0, 1]" {
+		t.Errorf("%+v", s)
+	}
+	if s := clipIndices(Sensitivity{Param: "b", First: 0.3, Total: 0.4}); s.First != 0.3 || s.Total != 0.4 || s.Note != "" {
+		t.Errorf("%+v", s)
+	}
+}
