@@ -340,6 +340,15 @@ func Fit(d surface.Data, opts Options) (*Report, error) {
 		for j, n := range d.Names {
 			o.Params[n] = x[j]
 		}
+		if rep.Flag != "" {
+			// A surface that misses the runs by more than their noise
+			// errs by about its leave-one-out error anywhere, and its
+			// own interval does not know it.
+			if hw := 1.959964 * rep.LOORMSE; hw > o.HalfWidth {
+				o.Warnings = append(o.Warnings, fmt.Sprintf("the surface misses the runs (leave-one-out error %.3g), so its optimum's interval is widened from ±%.2g to ±%.2g, 1.96 times that error", rep.LOORMSE, o.HalfWidth, hw))
+				o.HalfWidth = hw
+			}
+		}
 		rep.Optimum = o
 		if rep.Best != nil {
 			if note, proven := compareBest(o, rep.Best, opts.Maximize); !proven {

@@ -66,8 +66,9 @@ func TestFitKnownBowl(t *testing.T) {
 	}
 }
 
-// Ensure that a surface that cannot follow the data is flagged: a linear
-// model through a parabola whose runs are known to ±0.001.
+// Ensure that a surface that cannot follow the data is flagged, and its
+// optimum's interval widened to its leave-one-out error: a linear model
+// through a parabola whose runs are known to ±0.001.
 func TestFitFlagsMisfit(t *testing.T) {
 	var d surface.Data
 	d.Names = []string{"x"}
@@ -82,6 +83,18 @@ func TestFitFlagsMisfit(t *testing.T) {
 	}
 	if rep.Flag == "" || !strings.Contains(rep.Flag, "misses structure") {
 		t.Errorf("misfit not flagged: loo %.3g noise %.3g", rep.LOORMSE, rep.Noise)
+	}
+	// The line through the symmetric parabola is flat, predicting the
+	// runs' mean 0.42 everywhere with a narrow interval of its own; its
+	// real error is the leave-one-out error, so the optimum's interval is
+	// widened to 1.96 times it, and the run at the true minimum (x = 0,
+	// y = 0) is the recommendation.
+	p := rep.Predicted
+	if p == nil || p.HalfWidth < 1.959964*rep.LOORMSE-1e-12 || !strings.Contains(strings.Join(p.Warnings, " "), "interval is widened") {
+		t.Errorf("predicted optimum %+v (loo %.3g)", p, rep.LOORMSE)
+	}
+	if o := rep.Optimum; o == nil || o.Params["x"] != 0 || o.Value != 0 {
+		t.Errorf("optimum %+v, want the run at x = 0", o)
 	}
 }
 
