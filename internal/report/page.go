@@ -138,7 +138,7 @@ var page = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 {{with .Flag}}<p class="flag">{{.}}</p>{{end}}
 {{with .Notes}}<ul class="warn">{{range .}}<li>{{.}}</li>{{end}}</ul>{{end}}
 {{if .Curve}}<figure>{{.Curve}}<figcaption>{{$.Surface.Response}} against {{.CurveParam}}: the fitted mean in its 95 % band, and the runs with their own 95 % intervals.</figcaption></figure>{{end}}
-{{range .Contours}}<figure>{{.Figure}}<figcaption>{{$.Surface.Response}} over {{.XName}} and {{.YName}}, other parameters at the optimum. Circles: runs; cross: predicted optimum.</figcaption></figure>
+{{range .Contours}}<figure>{{.Figure}}<figcaption>{{$.Surface.Response}} over {{.XName}} and {{.YName}}, other parameters at the optimum. Circles: runs; cross: the recommended optimum (a measured run when the surface promises no proven improvement on it).</figcaption></figure>
 {{end}}
 <div class="grid2">
 {{if .LOO}}<figure>{{.LOO}}<figcaption>Leave-one-out check: each run predicted by the surface fitted without it. Points on the dashed 1:1 line are predicted exactly.</figcaption></figure>{{end}}
