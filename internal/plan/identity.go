@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/records"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -34,13 +35,13 @@ type Identity struct {
 
 // Variant returns the database record the identity describes.
 func (id Identity) Variant() store.Variant {
-	return store.Variant{Seq: id.Seq, ID: id.ID, Label: id.Label, Name: id.Name, Values: id.Values,
+	return store.Variant{Seq: id.Seq, ID: id.ID, Label: id.Label, Name: id.Name, Values: records.Values(id.Values),
 		Where: id.Where, Rendered: true, Added: id.Added, Created: id.Created}
 }
 
 func writeIdentity(dir, study string, params []string, v store.Variant) error {
 	b, err := json.MarshalIndent(Identity{Study: study, Seq: v.Seq, ID: v.ID, Label: v.Label, Name: v.Name, Params: params,
-		Values: v.Values, Where: v.Where, Added: v.Added, Created: v.Created}, "", "  ")
+		Values: records.RecipeValues(v.Values), Where: v.Where, Added: v.Added, Created: v.Created}, "", "  ")
 	if err != nil {
 		return err
 	}
@@ -69,5 +70,5 @@ var ErrNoIdentity = errors.New("no identity file")
 // PointKey returns the key under which the database finds a planned
 // variant from its design point: its name, or else its values.
 func PointKey(names []string, v store.Variant) string {
-	return pointKey(names, recipe.Point{Name: v.Name, Values: v.Values})
+	return pointKey(names, recipe.Point{Name: v.Name, Values: records.RecipeValues(v.Values)})
 }

@@ -15,6 +15,7 @@ import (
 	"github.com/google/uuid"
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/records"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -134,25 +135,26 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 				if err != nil {
 					return err
 				}
-				if !sameValues(v.Values, pt.Values) {
+				planned := records.RecipeValues(v.Values)
+				if !sameValues(planned, pt.Values) {
 					changed = append(changed, fmt.Sprintf("%s: point %q is variant %s, planned with %s; now %s: give the changed point a new name, or restore its values",
-						pt.Where, pt.Name, v.Label, describe(names, v.Values), describe(names, pt.Values)))
+						pt.Where, pt.Name, v.Label, describe(names, planned), describe(names, pt.Values)))
 					continue
 				}
 				existing[seq] = true
 				res.Kept++
-				res.Rows = append(res.Rows, Row{Seq: v.Seq, Label: v.Label, ID: v.ID, Name: v.Name, Values: v.Values})
+				res.Rows = append(res.Rows, Row{Seq: v.Seq, Label: v.Label, ID: v.ID, Name: v.Name, Values: planned})
 				if !v.Rendered {
 					fresh = append(fresh, v)
 				}
 				continue
 			}
 			v := store.Variant{Seq: s.NextSeq, ID: uuid.NewString(), Label: Label(s.NextSeq), Name: pt.Name,
-				Values: pt.Values, Where: pt.Where, Created: time.Now().UTC(), Added: n >= nDesign}
+				Values: records.Values(pt.Values), Where: pt.Where, Created: time.Now().UTC(), Added: n >= nDesign}
 			s.NextSeq++
 			fresh = append(fresh, v)
 			res.Added++
-			res.Rows = append(res.Rows, Row{Seq: v.Seq, Label: v.Label, ID: v.ID, Name: v.Name, Values: v.Values, New: true})
+			res.Rows = append(res.Rows, Row{Seq: v.Seq, Label: v.Label, ID: v.ID, Name: v.Name, Values: pt.Values, New: true})
 		}
 		if changed != nil {
 			return fmt.Errorf("%w: %w:\n%s", recipe.ErrInvalid, ErrChanged, strings.Join(changed, "\n"))
@@ -202,7 +204,7 @@ func Plan(ctx context.Context, r *recipe.Recipe, opts Options) (*Result, error) 
 			if err := tx.PutVariant(v); err != nil {
 				return err
 			}
-			if err := tx.PutPointKey(pointKey(names, recipe.Point{Name: v.Name, Values: v.Values}), v.Seq); err != nil {
+			if err := tx.PutPointKey(PointKey(names, v), v.Seq); err != nil {
 				return err
 			}
 		}
@@ -342,7 +344,7 @@ func renderAll(ctx context.Context, r *recipe.Recipe, lay *layout, study store.S
 // renderOne renders a variant into dir (inside the plan's temporary
 // directory) and moves it to final.
 func renderOne(r *recipe.Recipe, lay *layout, study store.Study, v store.Variant, dir, final string) error {
-	err := lay.render(dir, Data(r, v.Values))
+	err := lay.render(dir, Data(r, records.RecipeValues(v.Values)))
 	if err == nil {
 		err = writeIdentity(dir, study.ID, study.Params, v)
 	}

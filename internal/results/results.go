@@ -11,6 +11,7 @@ import (
 	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/records"
 	"github.com/sweep-cfd/sweep/internal/runner"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
@@ -112,7 +113,7 @@ func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, opts Option
 	err = st.Update(func(tx *store.Tx) error {
 		for i, v := range keep {
 			if v.Results != nil && !v.Harvested.Equal(prev[i].Harvested) {
-				if err := tx.PutResults(v.Seq, store.Results{Harvested: v.Harvested, Quantities: v.Results}); err != nil {
+				if err := tx.PutResults(v.Seq, store.Results{Harvested: v.Harvested, Quantities: records.Averages(v.Results)}); err != nil {
 					return err
 				}
 			}
@@ -212,7 +213,7 @@ func Load(r *recipe.Recipe, st *store.Store) ([]Variant, error) {
 				return err
 			}
 			if ok {
-				vs[i].Results, vs[i].Harvested = res.Quantities, res.Harvested
+				vs[i].Results, vs[i].Harvested = records.Results(res.Quantities), res.Harvested
 			}
 		}
 		return nil

@@ -103,7 +103,7 @@ func BenchmarkStatus100k(b *testing.B) {
 		tx.PutStudy(store.Study{ID: "bench", NextSeq: 100001, Params: []string{"a", "b", "c"}})
 		for i := uint64(1); i <= 100000; i++ {
 			v := store.Variant{Seq: i, ID: "00000000-0000-0000-0000-000000000000", Label: plan.Label(i), Rendered: true,
-				Values: []recipe.Value{recipe.Num(float64(i) * 0.001), recipe.Num(3.5), recipe.Word("round")}}
+				Values: []store.Value{{Num: float64(i) * 0.001}, {Num: 3.5}, {Text: "round"}}}
 			if err := tx.PutVariant(v); err != nil {
 				return err
 			}

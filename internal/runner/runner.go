@@ -16,6 +16,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/records"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -387,7 +388,7 @@ func (d *dispatcher) logPath(a *active) string {
 
 func (d *dispatcher) startRequest(a *active) request {
 	vdir := plan.Dir(d.r.Dir, a.vs.v.Label)
-	env := append(os.Environ(), d.r.Env(a.vs.v.Values, a.vs.v.ID, a.vs.v.Label, vdir, a.stage)...)
+	env := append(os.Environ(), d.r.Env(records.RecipeValues(a.vs.v.Values), a.vs.v.ID, a.vs.v.Label, vdir, a.stage)...)
 	env = append(env, recipe.EnvPrefix+"BIN="+d.exe)
 	header := fmt.Sprintf("=== sweep: stage %s of %s, attempt %d, started %s, token %s ===\n",
 		a.stage.Name, a.vs.v.Label, a.job.Attempts+1, a.job.Started.Local().Format(logStamp), a.job.Token)

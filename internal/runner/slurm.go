@@ -17,6 +17,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/records"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -308,7 +309,7 @@ func (sr *slurmRun) submitReady() error {
 				args = append(args, "--dependency=afterok:"+prev)
 			}
 			args = append(args, script)
-			env := append(os.Environ(), d.r.Env(vs.v.Values, vs.v.ID, vs.v.Label, vdir, s)...)
+			env := append(os.Environ(), d.r.Env(records.RecipeValues(vs.v.Values), vs.v.ID, vs.v.Label, vdir, s)...)
 			env = append(env, recipe.EnvPrefix+"BIN="+d.exe, tokenEnv+"="+j.Token)
 			out, err := slurm(sr.ctx, env, "sbatch", args...)
 			if err != nil {

@@ -4,6 +4,7 @@ import (
 	"path/filepath"
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/records"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -66,7 +67,7 @@ func Status(st *store.Store, name string) (*Report, error) {
 			params := make(map[string]any, len(v.Values))
 			for i, val := range v.Values {
 				if i < len(s.Params) {
-					if val.IsText() {
+					if val.Text != "" {
 						params[s.Params[i]] = val.Text
 					} else {
 						params[s.Params[i]] = val.Num
@@ -74,7 +75,7 @@ func Status(st *store.Store, name string) (*Report, error) {
 				}
 			}
 			idx[v.Seq] = len(rep.Variants)
-			rep.Variants = append(rep.Variants, VariantStatus{Seq: v.Seq, ID: v.ID, Label: v.Label, Name: v.Name, Params: params, Values: v.Values})
+			rep.Variants = append(rep.Variants, VariantStatus{Seq: v.Seq, ID: v.ID, Label: v.Label, Name: v.Name, Params: params, Values: records.RecipeValues(v.Values)})
 			return nil
 		}); err != nil {
 			return err

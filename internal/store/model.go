@@ -2,9 +2,6 @@ package store
 
 import (
 	"time"
-
-	"github.com/sweep-cfd/sweep/internal/harvest"
-	"github.com/sweep-cfd/sweep/internal/recipe"
 )
 
 // State is the state of a job.
@@ -36,15 +33,15 @@ type Study struct {
 
 // Variant is one point of the design and its rendered case.
 type Variant struct {
-	Seq      uint64         `json:"seq"`
-	ID       string         `json:"id"`    // a UUID, stable for the life of the study
-	Label    string         `json:"label"` // short readable label, also the directory name
-	Name     string         `json:"name,omitempty"`
-	Values   []recipe.Value `json:"values"`
-	Where    string         `json:"where,omitempty"` // where the point was declared, for messages
-	Rendered bool           `json:"rendered"`
-	Added    bool           `json:"added,omitempty"` // proposed by `plan --add`, not by the design
-	Created  time.Time      `json:"created"`
+	Seq      uint64    `json:"seq"`
+	ID       string    `json:"id"`    // a UUID, stable for the life of the study
+	Label    string    `json:"label"` // short readable label, also the directory name
+	Name     string    `json:"name,omitempty"`
+	Values   []Value   `json:"values"`
+	Where    string    `json:"where,omitempty"` // where the point was declared, for messages
+	Rendered bool      `json:"rendered"`
+	Added    bool      `json:"added,omitempty"` // proposed by `plan --add`, not by the design
+	Created  time.Time `json:"created"`
 }
 
 // Job is one stage of one variant.
@@ -82,8 +79,8 @@ type Job struct {
 // the stage index, so a scan visits jobs in variant order, stages in order.
 func (j *Job) Key() []byte { return jobKey(j.Variant, j.Index) }
 
-// Results is a variant's last harvest: each quantity's averaged result.
+// Results is a variant's last harvest: each quantity's average.
 type Results struct {
-	Harvested  time.Time                 `json:"harvested"`
-	Quantities map[string]harvest.Result `json:"quantities"`
+	Harvested  time.Time          `json:"harvested"`
+	Quantities map[string]Average `json:"quantities"`
 }

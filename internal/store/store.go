@@ -43,6 +43,10 @@ type Store struct {
 	path string
 	opts Options
 	db   *bolt.DB
+	// Migrated is the format the database was migrated from when it was
+	// opened (0 when it was already current); the copy made before is at
+	// MigrationBackupPath.
+	Migrated int
 }
 
 // Path returns the database file's path for a study directory.
@@ -69,17 +73,16 @@ func Open(studyDir string, opts Options) (*Store, error) {
 		return nil, err
 	}
 	err = guard(s.path, func() error {
-		return db.Update(func(tx *bolt.Tx) error {
-			for _, b := range [][]byte{bucketMeta, bucketVariants, bucketJobs, bucketKeys, bucketResults} {
-				if _, err := tx.CreateBucketIfNotExists(b); err != nil {
-					return err
-				}
-			}
-			return nil
-		})
+		var err error
+		s.Migrated, err = s.prepare(db)
+		return err
 	})
 	if err != nil {
 		db.Close()
+		var fe *FormatError
+		if errors.As(err, &fe) {
+			return nil, err
+		}
 		return nil, fmt.Errorf("initialise %s: %w", s.path, err)
 	}
 	if opts.Brief {

@@ -6,8 +6,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-
-	"github.com/sweep-cfd/sweep/internal/recipe"
 )
 
 // Ensure that a second writer is refused at once, told who holds the
@@ -50,7 +48,7 @@ func TestRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	vals := []recipe.Value{recipe.Num(0.1), recipe.Num(-3e-7), recipe.Word("round")}
+	vals := []Value{{Num: 0.1}, {Num: -3e-7}, {Text: "round"}}
 	err = st.Update(func(tx *Tx) error {
 		for _, seq := range []uint64{3, 1, 2} {
 			if err := tx.PutVariant(Variant{Seq: seq, ID: "id" + strconv.Itoa(int(seq)), Values: vals, Rendered: true}); err != nil {
@@ -74,7 +72,7 @@ func TestRoundTrip(t *testing.T) {
 		}
 		if err := tx.Variants(func(v Variant) error {
 			for i := range vals {
-				if !v.Values[i].Equal(vals[i]) {
+				if v.Values[i] != vals[i] {
 					t.Errorf("value %d: %v != %v", i, v.Values[i], vals[i])
 				}
 			}
