@@ -8,9 +8,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"github.com/sweep-cfd/sweep/internal/plan"
-	"github.com/sweep-cfd/sweep/internal/runner"
-	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 	"github.com/sweep-cfd/sweep/recipes"
 )
@@ -52,22 +50,13 @@ func runDemo(cmd *cobra.Command, dir string, cores int) error {
 	} else {
 		fmt.Fprintf(out, "using the study already in %s\n", dir)
 	}
-	r, err := loadRecipe(dir)
-	if err != nil {
-		return err
-	}
-	lock, err := store.Acquire(dir, "demo")
-	if err != nil {
-		return err
-	}
-	defer lock.Release()
-	res, err := plan.Plan(cmd.Context(), r, plan.Options{})
+	res, err := study.Plan(cmd.Context(), dir, study.PlanOptions{})
 	if err != nil {
 		return err
 	}
 	fmt.Fprintf(out, "planned %d variants (%d new)\n", res.Added+res.Kept, res.Added)
 	prog := ui.NewRunProgress(os.Stderr, false)
-	snap, err := runner.Run(cmd.Context(), r, runner.Options{Cores: cores, Progress: prog})
+	snap, err := study.Run(cmd.Context(), dir, study.RunOptions{Backend: "local", Cores: cores, Progress: prog})
 	prog.Finish()
 	if err != nil {
 		return err

@@ -14,6 +14,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/fit"
 	"github.com/sweep-cfd/sweep/internal/results"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -78,6 +79,7 @@ each run's standard error.`,
 
 func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 	var rep *fit.Report
+	out := cmd.OutOrStdout()
 	if opts.table != "" {
 		if len(args) > 0 {
 			return usageError{errors.New("give either a study directory or --table, not both")}
@@ -89,58 +91,32 @@ func runFit(cmd *cobra.Command, opts fitOptions, args []string) error {
 		if opts.params != "" {
 			params = strings.Split(opts.params, ",")
 		}
-		d, info, err := fit.ReadTable(opts.table, opts.response, params...)
-		if err != nil {
-			return usageError{err}
-		}
-		rep, err = fit.Fit(d, fit.Options{Model: opts.model, Terms: opts.terms, Maximize: opts.maximize, Seed: opts.seed, Labels: info.Labels})
+		var err error
+		rep, err = study.FitTable(opts.table, study.TableOptions{Response: opts.response, Params: params, Model: opts.model, Terms: opts.terms, Maximize: opts.maximize, Seed: opts.seed})
 		if err != nil {
 			return err
-		}
-		rep.Response = opts.response
-		if len(info.Ignored) > 0 {
-			rep.Notes = append(rep.Notes, "columns left out: "+strings.Join(info.Ignored, ", ")+" (name the parameters with --params to choose them)")
-		}
-		if info.Skipped > 0 {
-			rep.Notes = append(rep.Notes, fmt.Sprintf("%d rows left out: no average of %s with a standard error (failed, too short or not run)", info.Skipped, opts.response))
 		}
 	} else {
-		h, err := harvestStudy(cmd, studyDir(args), opts.quantity, true)
+		s, err := openStudy(cmd, studyDir(args))
 		if err != nil {
 			return err
 		}
-		defer h.st.Close()
-		r, vs := h.r, h.vs
-		prob, err := fit.StudyProblem(r, vs, h.qs)
+		defer s.Close()
+		f, err := s.Fit(cmd.Context(), study.FitOptions{Quantity: opts.quantity, Model: opts.model, Terms: opts.terms, Seed: opts.seed, Progress: harvestProgress()})
 		if err != nil {
 			return err
 		}
-		var cols []int
-		if len(prob.Objectives) > 0 {
-			cols = prob.Objectives[0].In.Cols
-		}
-		base := fit.Options{Model: opts.model, Terms: opts.terms, Feasible: fit.Feasible(r, cols, vs), Seed: opts.seed}
-		if len(h.qs) > 1 {
-			front, err := prob.FitFront(base)
-			if err != nil {
-				return fmt.Errorf("fit %s: %w", prob.Names(), err)
+		if f.Front != nil {
+			switch {
+			case opts.json:
+				return ui.JSON(out, f.Front)
+			case opts.csv:
+				return ui.CSV(out, frontTable(f.Front, true))
 			}
-			if opts.json {
-				return ui.JSON(cmd.OutOrStdout(), front)
-			}
-			if opts.csv {
-				return ui.CSV(cmd.OutOrStdout(), frontTable(front, true))
-			}
-			tr := results.Tradeoff(vs, tradeObjectives(h.qs), results.LimitsOf(r), opts.seed)
-			printFront(cmd.OutOrStdout(), front, tr)
+			printFront(out, f.Front, *f.Trade)
 			return nil
 		}
-		var limits []*fit.Report
-		rep, limits, err = prob.FitConstrained(base)
-		if err != nil {
-			return err
-		}
-		rep.LimitFits = limits
+		rep = f.Report
 	}
 	if opts.json {
 		return ui.JSON(cmd.OutOrStdout(), rep)

@@ -9,7 +9,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/results"
-	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -55,13 +55,17 @@ flagged. Each setup of the other parameters is analysed on its own.`,
 }
 
 func meshStudy(cmd *cobra.Command, dir, quantity string) ([]results.MeshGroup, *recipe.Recipe, *recipe.Quantity, error) {
-	h, err := harvestStudy(cmd, dir, quantity, false)
+	s, err := openStudy(cmd, dir)
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	defer h.st.Close()
-	groups, err := results.MeshStudy(h.r, h.vs, h.q.Name)
-	return groups, h.r, h.q, err
+	defer s.Close()
+	qs, err := s.Objectives(quantity, false)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	groups, err := s.Mesh(cmd.Context(), study.MeshOptions{Quantity: quantity, Progress: harvestProgress()})
+	return groups, s.Recipe, qs[0], err
 }
 
 func printGCI(w io.Writer, r *recipe.Recipe, q *recipe.Quantity, groups []results.MeshGroup) {
@@ -105,24 +109,6 @@ func abs(x float64) float64 {
 		return -x
 	}
 	return x
-}
-
-// meshGCI returns the fine-grid GCI (a fraction) of a mesh study directory,
-// for rank --mesh-study: the first setup's.
-func meshGCI(cmd *cobra.Command, dir, quantity string) (float64, error) {
-	if !store.Exists(dir) {
-		return 0, usageError{fmt.Errorf("--mesh-study %s: no planned study there", dir)}
-	}
-	groups, _, _, err := meshStudy(cmd, dir, quantity)
-	if err != nil {
-		return 0, fmt.Errorf("--mesh-study %s: %w", dir, err)
-	}
-	for _, g := range groups {
-		if g.Error == "" && (g.Result.Convergence == "monotonic" || g.Result.Convergence == "oscillatory") {
-			return g.Result.GCIFine, nil
-		}
-	}
-	return 0, fmt.Errorf("--mesh-study %s: no setup converges on its grids; no discretisation uncertainty can be estimated", dir)
 }
 
 // gciTable is one row per setup: its grids' values and the estimate.

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -12,7 +13,7 @@ import (
 	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/results"
-	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -49,35 +50,35 @@ listed), unless --include-running records their preliminary averages.`,
 		Args: maxOneDir,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			dir := studyDir(args)
-			r, st, err := openStudy(dir)
+			s, err := openStudy(cmd, dir)
 			if err != nil {
 				return err
 			}
-			defer st.Close()
-			vs, running, err := results.Harvest(cmd.Context(), r, st, results.Options{Progress: harvestProgress(), IncludeRunning: opts.running})
+			defer s.Close()
+			h, err := s.Harvest(cmd.Context(), study.HarvestOptions{Progress: harvestProgress(), IncludeRunning: opts.running})
 			if err != nil {
 				return err
 			}
-			if len(running) > 0 {
+			if len(h.Running) > 0 {
 				note := "results/summary.* keep their last finished harvest (--include-running records their preliminary averages)"
 				if opts.running {
 					note = "their preliminary averages are recorded, marked running"
 				}
-				fmt.Fprintf(cmd.ErrOrStderr(), "still running: %s; %s\n", strings.Join(running, ", "), note)
+				fmt.Fprintf(cmd.ErrOrStderr(), "still running: %s; %s\n", strings.Join(h.Running, ", "), note)
 			}
 			out := cmd.OutOrStdout()
 			switch {
 			case opts.json:
-				return ui.JSON(out, map[string]any{"study": r.Name, "variants": vs})
+				return ui.JSON(out, map[string]any{"study": s.Recipe.Name, "variants": h.Variants})
 			case opts.csv:
-				b, err := os.ReadFile(dir + "/" + results.Dir + "/summary.csv")
+				b, err := os.ReadFile(filepath.Join(dir, results.Dir, "summary.csv"))
 				if err != nil {
 					return err
 				}
 				_, err = out.Write(b)
 				return err
 			}
-			printHarvest(out, r, vs)
+			printHarvest(out, s.Recipe, h.Variants)
 			return nil
 		},
 	}
@@ -87,80 +88,17 @@ listed), unless --include-running records their preliminary averages.`,
 	return cmd
 }
 
-// harvested is a study harvested for one or more quantities: what rank,
-// report, gci and fit start from. q is the first of qs.
-type harvested struct {
-	r  *recipe.Recipe
-	st *store.Store
-	q  *recipe.Quantity
-	qs []*recipe.Quantity
-	vs []results.Variant
-}
-
-// harvestStudy opens the study in dir, picks the quantities of spec (see
-// objectives; one unless several) and harvests every variant. The caller
-// closes h.st.
-func harvestStudy(cmd *cobra.Command, dir, spec string, several bool) (*harvested, error) {
-	r, st, err := openStudy(dir)
+// openStudy opens the planned study in dir and says on standard error
+// what opening it changed (a database migrated to the current format).
+func openStudy(cmd *cobra.Command, dir string) (*study.Study, error) {
+	s, err := study.Open(dir)
 	if err != nil {
 		return nil, err
 	}
-	qs, err := objectives(r, spec, several)
-	if err != nil {
-		st.Close()
-		return nil, usageError{err}
+	if n := s.Note(); n != "" {
+		fmt.Fprintln(cmd.ErrOrStderr(), "note:", n)
 	}
-	vs, _, err := results.Harvest(cmd.Context(), r, st, results.Options{Progress: harvestProgress()})
-	if err != nil {
-		st.Close()
-		return nil, err
-	}
-	return &harvested{r, st, qs[0], qs, vs}, nil
-}
-
-// objectives returns the quantities a --quantity list names ("drag", or
-// "drag,downforce" where several are allowed), by default the recipe's
-// objective. Each of several must say which values are better.
-func objectives(r *recipe.Recipe, spec string, several bool) ([]*recipe.Quantity, error) {
-	names := strings.Split(spec, ",")
-	if len(names) > 1 && !several {
-		return nil, fmt.Errorf("--quantity %q names %d quantities; this command takes one", spec, len(names))
-	}
-	var qs []*recipe.Quantity
-	seen := map[string]bool{}
-	for _, n := range names {
-		n = strings.TrimSpace(n)
-		if len(names) > 1 && n == "" {
-			return nil, fmt.Errorf("--quantity %q has an empty name: separate the quantities with single commas", spec)
-		}
-		q, err := r.Objective(n)
-		if err != nil {
-			return nil, err
-		}
-		if seen[q.Name] {
-			return nil, fmt.Errorf("--quantity %q names %s twice", spec, q.Name)
-		}
-		seen[q.Name] = true
-		if len(names) > 1 && q.Direction == recipe.None {
-			return nil, fmt.Errorf("quantity %q (%s:%d) does not say which values are better: add better = \"lower\" or \"higher\" to it to trade it against the others", q.Name, recipe.FileName, q.Line)
-		}
-		qs = append(qs, q)
-	}
-	return qs, nil
-}
-
-// openStudy loads a planned study's recipe and opens its database for
-// brief transactions (so it works beside a running `sweep run`).
-func openStudy(dir string) (*recipe.Recipe, *store.Store, error) {
-	r, err := loadRecipe(dir)
-	if err != nil {
-		return nil, nil, err
-	}
-	st, err := store.OpenExisting(dir, store.Options{Brief: true})
-	if err != nil {
-		return nil, nil, err
-	}
-	return r, st, nil
+	return s, nil
 }
 
 func printHarvest(w io.Writer, r *recipe.Recipe, vs []results.Variant) {

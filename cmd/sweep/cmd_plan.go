@@ -1,22 +1,19 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
 	"runtime"
-	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
 
-	"github.com/sweep-cfd/sweep/internal/fit"
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/results"
-	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -55,46 +52,26 @@ its results.`,
 	return cmd
 }
 
-// maxAdd bounds the proposals of one plan --add: each one refits the
-// surface.
-const maxAdd = 1000
-
 func runPlan(cmd *cobra.Command, opts planOptions, dir string) error {
-	r, err := loadRecipe(dir)
+	res, err := study.Plan(cmd.Context(), dir, study.PlanOptions{DryRun: opts.dryRun, Add: opts.add, Criterion: opts.criterion, Quantity: opts.quantity,
+		Seed: opts.seed, Progress: ui.NewCounter(os.Stderr, "rendering"), HarvestProgress: harvestProgress()})
 	if err != nil {
 		return err
 	}
-	if !opts.dryRun {
-		lock, err := store.Acquire(dir, "plan")
-		if err != nil {
-			return err
-		}
-		defer lock.Release()
-	}
-	var extra []recipe.Point
-	if opts.add < 0 || opts.add > maxAdd {
-		return usageError{fmt.Errorf("--add takes 1 to %d new variants at a time (each refits the surface); got %d", maxAdd, opts.add)}
-	}
-	if opts.add > 0 {
-		if extra, err = propose(cmd, r, dir, opts); err != nil {
-			return err
-		}
-	}
-	res, err := plan.Plan(cmd.Context(), r, plan.Options{DryRun: opts.dryRun, Extra: extra, Progress: ui.NewCounter(os.Stderr, "rendering")})
-	if err != nil {
-		return err
+	if res.Note != "" {
+		fmt.Fprintln(cmd.ErrOrStderr(), "note:", res.Note)
 	}
 	if res.BackupErr != nil {
 		fmt.Fprintf(cmd.ErrOrStderr(), "warning: %v; the plan is recorded, but `sweep recover` has no fresh copy to start from\n", res.BackupErr)
 	}
-	out := cmd.OutOrStdout()
+	r, out := res.Recipe, cmd.OutOrStdout()
 	if opts.json {
-		return ui.JSON(out, planJSON(r, res, opts.dryRun))
+		return ui.JSON(out, planJSON(r, res.Result, opts.dryRun))
 	}
 	if opts.csv {
-		return ui.CSV(out, planTable(r, res, opts.dryRun))
+		return ui.CSV(out, planTable(r, res.Result, opts.dryRun))
 	}
-	printPlan(out, r, res, opts.dryRun)
+	printPlan(out, r, res.Result, opts.dryRun)
 	return nil
 }
 
@@ -104,50 +81,6 @@ type planRowJSON struct {
 	Name   string         `json:"name,omitempty"`
 	Params map[string]any `json:"params"`
 	New    bool           `json:"new"`
-}
-
-// propose fits the harvested results and proposes opts.add new points:
-// by expected improvement (or variance) of one quantity, by expected
-// improvement times the chance of keeping the limits when the recipe
-// limits quantities, and by expected hypervolume improvement for
-// several quantities.
-func propose(cmd *cobra.Command, r *recipe.Recipe, dir string, opts planOptions) ([]recipe.Point, error) {
-	qs, err := objectives(r, opts.quantity, true)
-	if err != nil {
-		return nil, usageError{err}
-	}
-	limits := results.LimitsOf(r)
-	if opts.criterion == "variance" && (len(qs) > 1 || len(limits) > 0) {
-		return nil, usageError{errors.New("--criterion variance explores one quantity's surface; with several quantities or the recipe's limits use --criterion ei (expected improvement with the chance of keeping the limits, or of the hypervolume)")}
-	}
-	st, err := store.OpenExisting(dir, store.Options{Brief: true})
-	if err != nil {
-		return nil, err
-	}
-	defer st.Close()
-	vs, _, err := results.Harvest(cmd.Context(), r, st, results.Options{Progress: harvestProgress()})
-	if err != nil {
-		return nil, err
-	}
-	prob, err := fit.StudyProblem(r, vs, qs)
-	if err != nil {
-		return nil, err
-	}
-	for _, part := range append(slices.Clone(prob.Objectives), prob.Limits...) {
-		if n := len(part.In.Data.Y); n < 3 {
-			return nil, fmt.Errorf("--add needs at least 3 variants with an average of %s to fit its surface (the study has %d); run the design first", part.Quantity, n)
-		}
-	}
-	var pts []recipe.Point
-	if len(qs) == 1 && len(limits) == 0 {
-		pts, _, err = fit.Next(r, prob.Objectives[0].In, vs, opts.add, opts.criterion, !qs[0].LowerIsBetter(), opts.seed)
-	} else {
-		pts, _, err = prob.Next(r, vs, opts.add, opts.seed)
-	}
-	if err != nil {
-		return nil, err
-	}
-	return pts, nil
 }
 
 func planJSON(r *recipe.Recipe, res *plan.Result, dry bool) any {

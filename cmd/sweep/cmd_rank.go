@@ -1,7 +1,6 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
 	"slices"
@@ -11,6 +10,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/results"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -63,18 +63,17 @@ averages' uncertainty, and which front variants cannot be told apart.`,
 }
 
 func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
-	h, err := harvestStudy(cmd, dir, opts.by, true)
+	s, err := openStudy(cmd, dir)
 	if err != nil {
 		return err
 	}
-	defer h.st.Close()
-	r, q, vs := h.r, h.q, h.vs
-	out := cmd.OutOrStdout()
-	if len(h.qs) > 1 {
-		if opts.baseline != "" || opts.mesh != "" {
-			return usageError{errors.New("--baseline and --mesh-study compare one quantity; give one --quantity with them")}
-		}
-		tr := results.Tradeoff(vs, tradeObjectives(h.qs), results.LimitsOf(r), opts.seed)
+	defer s.Close()
+	rk, err := s.Rank(cmd.Context(), study.RankOptions{Quantity: opts.by, Baseline: opts.baseline, MeshStudy: opts.mesh, Seed: opts.seed, Progress: harvestProgress()})
+	if err != nil {
+		return err
+	}
+	r, out := s.Recipe, cmd.OutOrStdout()
+	if tr := rk.Trade; tr != nil {
 		switch {
 		case opts.json:
 			if tr.Rows == nil {
@@ -82,46 +81,23 @@ func runRank(cmd *cobra.Command, opts rankOptions, dir string) error {
 			}
 			return ui.JSON(out, tr)
 		case opts.csv:
-			return ui.CSV(out, tradeTable(r, tr, true))
+			return ui.CSV(out, tradeTable(r, *tr, true))
 		}
-		printTrade(out, r, tr)
+		printTrade(out, r, *tr)
 		return nil
 	}
-	if opts.baseline != "" {
-		label, ok := variantLabel(vs, opts.baseline)
-		if !ok {
-			return usageError{fmt.Errorf("no variant %q in the study (give a label such as v001, or an id); see `sweep status %s`", opts.baseline, dir)}
-		}
-		opts.baseline = label
-	}
-	rk := results.Rank(vs, q.Name, q.LowerIsBetter(), opts.baseline, results.LimitsOf(r)...)
-	if opts.mesh != "" {
-		g, err := meshGCI(cmd, opts.mesh, q.Name)
-		if err != nil {
-			return err
-		}
-		rk.ApplyMesh(g)
-	}
+	q := r.Quantity(rk.Quantity)
 	switch {
 	case opts.json:
-		if rk.Rows == nil {
-			rk.Rows = []results.Row{}
+		if rk.Ranking.Rows == nil {
+			rk.Ranking.Rows = []results.Row{}
 		}
-		return ui.JSON(out, rk.Rows)
+		return ui.JSON(out, rk.Ranking.Rows)
 	case opts.csv:
-		return ui.CSV(out, rankTable(r, q, rk, opts.baseline != ""))
+		return ui.CSV(out, rankTable(r, q, *rk.Ranking, rk.Ranking.Baseline != ""))
 	}
-	printRank(out, r, q, rk, opts.baseline)
+	printRank(out, r, q, *rk.Ranking, rk.Ranking.Baseline)
 	return nil
-}
-
-// tradeObjectives returns the quantities as trade-off objectives.
-func tradeObjectives(qs []*recipe.Quantity) []results.Objective {
-	var objs []results.Objective
-	for _, q := range qs {
-		objs = append(objs, results.Objective{Quantity: q.Name, LowerIsBetter: q.LowerIsBetter()})
-	}
-	return objs
 }
 
 // tradeTable lays out a trade-off, one row per variant; csv gives the
@@ -218,16 +194,6 @@ func printTrade(w io.Writer, r *recipe.Recipe, tr results.Trade) {
 		fmt.Fprintf(w, "left out: %s: %s\n", ex.Label, ex.Reason)
 	}
 	fmt.Fprintln(w, ui.Caution)
-}
-
-// variantLabel finds a variant by its label or its id.
-func variantLabel(vs []results.Variant, ref string) (string, bool) {
-	for _, v := range vs {
-		if v.Label == ref || v.ID == ref {
-			return v.Label, true
-		}
-	}
-	return "", false
 }
 
 func rankTable(r *recipe.Recipe, q *recipe.Quantity, rk results.Ranking, withBase bool) [][]string {

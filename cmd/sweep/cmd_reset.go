@@ -6,8 +6,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"github.com/sweep-cfd/sweep/internal/runner"
-	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -30,17 +29,7 @@ are not touched.`,
 				return usageError{errors.New("say what to reset: --failed")}
 			}
 			dir := studyDir(args)
-			lock, err := store.Acquire(dir, "reset")
-			if err != nil {
-				return err
-			}
-			defer lock.Release()
-			st, err := store.OpenExisting(dir, store.Options{})
-			if err != nil {
-				return err
-			}
-			defer st.Close()
-			n, err := runner.ResetFailed(st)
+			n, err := study.ResetFailed(dir)
 			if err != nil {
 				return err
 			}

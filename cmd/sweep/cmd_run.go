@@ -14,8 +14,8 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"github.com/sweep-cfd/sweep/internal/runner"
 	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -58,49 +58,24 @@ work on a study at a time.`,
 }
 
 func runRun(cmd *cobra.Command, opts runOptions, dir string) error {
-	if opts.cores < 0 {
-		return usageError{fmt.Errorf("--cores must be positive")}
-	}
-	r, err := loadRecipe(dir)
+	backend, err := study.Backend(dir, opts.backend)
 	if err != nil {
 		return err
-	}
-	backend := r.Backend.Kind
-	if opts.backend != "" {
-		backend = opts.backend
 	}
 	if backend == "local" && opts.detach && !detached() {
 		return startDetached(cmd, dir)
 	}
-	lock, err := store.Acquire(dir, "run")
-	if err != nil {
-		return err
-	}
-	defer lock.Release()
 	prog := ui.NewRunProgress(os.Stderr, opts.quiet)
 	stopHangup := surviveHangup(dir, prog)
 	defer stopHangup()
-	var snap *runner.Snapshot
-	switch backend {
-	case "local":
-		snap, err = runner.Run(cmd.Context(), r, runner.Options{Cores: opts.cores, Progress: prog})
-	case "slurm":
-		snap, err = runner.RunSlurm(cmd.Context(), r, runner.Options{Progress: prog}, opts.detach)
-	default:
-		return usageError{fmt.Errorf("--backend must be local or slurm (got %q)", backend)}
-	}
+	snap, err := study.Run(cmd.Context(), dir, study.RunOptions{Backend: opts.backend, Cores: opts.cores, Submit: opts.detach, Progress: prog})
 	prog.Finish()
 	if snap == nil {
 		return err
 	}
 	out := cmd.OutOrStdout()
 	if opts.json {
-		st, oerr := store.OpenExisting(dir, store.Options{})
-		if oerr != nil {
-			return oerr
-		}
-		rep, serr := runner.Status(st, r.Name)
-		st.Close()
+		rep, _, serr := study.StatusOf(dir)
 		if serr != nil {
 			return serr
 		}
@@ -133,52 +108,23 @@ with scancel and re-queued.`,
 		Args: maxOneDir,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			dir := studyDir(args)
-			if h, ok := localRunner(dir); ok {
-				if err := syscall.Kill(h.PID, syscall.SIGINT); err != nil {
-					return fmt.Errorf("stop the run (pid %d): %w", h.PID, err)
+			c, err := study.Cancel(cmd.Context(), dir)
+			out := cmd.OutOrStdout()
+			if c != nil && c.PID != 0 {
+				fmt.Fprintf(out, "asked the run (pid %d) to stop; it re-queues its running stages and ends\n", c.PID)
+				if c.Ended {
+					fmt.Fprintln(out, "the run has ended")
 				}
-				fmt.Fprintf(cmd.OutOrStdout(), "asked the run (pid %d) to stop; it re-queues its running stages and ends\n", h.PID)
-				for range 600 {
-					if !store.Held(dir) {
-						fmt.Fprintln(cmd.OutOrStdout(), "the run has ended")
-						return nil
-					}
-					time.Sleep(100 * time.Millisecond)
-				}
-				return fmt.Errorf("the run (pid %d) is still stopping after 60 s; see %s", h.PID, filepath.Join(dir, store.Dir, "run.log"))
 			}
-			lock, err := store.Acquire(dir, "cancel")
 			if err != nil {
 				return err
 			}
-			defer lock.Release()
-			st, err := store.OpenExisting(dir, store.Options{Brief: true})
-			if err != nil {
-				return err
+			if c.PID == 0 {
+				fmt.Fprintf(out, "cancelled %d Slurm jobs; they are back in the queue\n", c.Slurm)
 			}
-			defer st.Close()
-			n, err := runner.CancelSlurm(cmd.Context(), st)
-			if err != nil {
-				return err
-			}
-			fmt.Fprintf(cmd.OutOrStdout(), "cancelled %d Slurm jobs; they are back in the queue\n", n)
 			return nil
 		},
 	}
-}
-
-// localRunner returns the holder of the study's lock when it is a `sweep
-// run` on this machine.
-func localRunner(dir string) (store.Holder, bool) {
-	if !store.Held(dir) {
-		return store.Holder{}, false
-	}
-	h, err := store.ReadHolder(dir)
-	host, _ := os.Hostname()
-	if err != nil || h.PID == 0 || h.Command != "run" || h.Host != host {
-		return h, false
-	}
-	return h, true
 }
 
 // detachedEnv marks a run started by --detach in the background.
@@ -194,7 +140,7 @@ func runLog(dir string) string { return filepath.Join(dir, store.Dir, "run.log")
 // session of its own, with its output in the study's run log, and returns
 // once it holds the study (or has failed).
 func startDetached(cmd *cobra.Command, dir string) error {
-	if h, ok := localRunner(dir); ok || store.Held(dir) {
+	if h, ok := study.LocalRunner(dir); ok || store.Held(dir) {
 		return fmt.Errorf("%w: %s; wait for it to finish or stop it (sweep cancel %s)", store.ErrLocked, h, dir)
 	}
 	exe, err := os.Executable()

@@ -3,12 +3,12 @@ package main
 import (
 	"fmt"
 	"io"
+	"os"
 	"strings"
 
 	"github.com/spf13/cobra"
 
-	"github.com/sweep-cfd/sweep/internal/runner"
-	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -31,7 +31,7 @@ failed, pending, running) and "variants" (id, label, state, params, ...).`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			dir := studyDir(args)
 			if opts.refresh {
-				if err := refreshSlurm(cmd, dir); err != nil {
+				if err := study.RefreshSlurm(cmd.Context(), dir); err != nil {
 					return err
 				}
 			}
@@ -45,18 +45,12 @@ failed, pending, running) and "variants" (id, label, state, params, ...).`,
 }
 
 func runStatus(w io.Writer, opts statusOptions, dir string) error {
-	st, err := store.OpenExisting(dir, store.Options{Brief: true})
+	rep, migrated, err := study.StatusOf(dir)
 	if err != nil {
 		return err
 	}
-	defer st.Close()
-	name := dir
-	if r, err := loadRecipe(dir); err == nil {
-		name = r.Name
-	}
-	rep, err := runner.Status(st, name)
-	if err != nil {
-		return err
+	if n := study.MigrationNote(dir, migrated); n != "" {
+		fmt.Fprintln(os.Stderr, "note:", n)
 	}
 	if opts.json {
 		return ui.JSON(w, rep)
@@ -103,16 +97,3 @@ func runStatus(w io.Writer, opts statusOptions, dir string) error {
 }
 
 // refreshSlurm takes one look at the study's Slurm jobs (a detached run).
-func refreshSlurm(cmd *cobra.Command, dir string) error {
-	r, err := loadRecipe(dir)
-	if err != nil {
-		return err
-	}
-	lock, err := store.Acquire(dir, "status --refresh")
-	if err != nil {
-		return err
-	}
-	defer lock.Release()
-	_, err = runner.RunSlurm(cmd.Context(), r, runner.Options{}, true)
-	return err
-}

@@ -11,6 +11,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/runner"
 	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/study"
 )
 
 func main() {
@@ -47,12 +48,13 @@ func (e usageError) Unwrap() error { return e.error }
 
 func exitCode(ctx context.Context, err error) int {
 	var ue usageError
+	var se study.UsageError
 	switch {
 	case err == nil:
 		return exitOK
 	case errors.Is(err, runner.ErrInterrupted) || errors.Is(err, context.Canceled) || ctx.Err() != nil:
 		return exitInterrupted
-	case errors.As(err, &ue) || isRecipeError(err) || errors.Is(err, store.ErrNoStudy):
+	case errors.As(err, &ue) || errors.As(err, &se) || isRecipeError(err) || errors.Is(err, store.ErrNoStudy):
 		return exitUsage
 	default:
 		return exitFailed

@@ -7,6 +7,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/study"
 )
 
 func newRootCmd() *cobra.Command {
@@ -47,7 +48,7 @@ func studyDir(args []string) string {
 
 // loadRecipe reads DIR/study.toml.
 func loadRecipe(dir string) (*recipe.Recipe, error) {
-	return recipe.Load(filepath.Join(dir, recipe.FileName))
+	return study.Load(dir)
 }
 
 func isRecipeError(err error) bool { return errors.Is(err, recipe.ErrInvalid) }

@@ -53,6 +53,9 @@ type Row struct {
 type Ranking struct {
 	Quantity string `json:"quantity"`
 	Better   string `json:"better"` // "lower" or "higher": which values rank first
+	// Baseline is the label of the variant every row is compared with
+	// ("" for none).
+	Baseline string `json:"baseline,omitempty"`
 	Rows     []Row  `json:"rows"`
 	// Limits are the recipe's limits on quantities, in words; the
 	// variants within them rank first, those outside after them.
@@ -131,7 +134,7 @@ func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string, li
 	if lowerIsBetter {
 		better = "lower"
 	}
-	rk := Ranking{Quantity: quantity, Better: better}
+	rk := Ranking{Quantity: quantity, Better: better, Baseline: baseline}
 	for _, l := range limits {
 		rk.Limits = append(rk.Limits, l.Text)
 	}

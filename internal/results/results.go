@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"sync"
 	"time"
 
@@ -12,7 +13,6 @@ import (
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/records"
-	"github.com/sweep-cfd/sweep/internal/runner"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -27,6 +27,9 @@ type Variant struct {
 	Harvested time.Time                 `json:"harvested"`
 	Values    []recipe.Value            `json:"-"`
 	Seq       uint64                    `json:"-"`
+	// Jobs are the variant's stage jobs, which say whether and how it
+	// ran.
+	Jobs []store.Job `json:"-"`
 }
 
 // Progress receives harvest progress.
@@ -42,28 +45,25 @@ type Options struct {
 	IncludeRunning bool
 }
 
-// Harvest reads the histories of every variant that has run or runs now,
-// judges each quantity of the recipe (see Judge), records the results in
-// the study database and writes results/summary.json and
-// results/summary.csv. It returns all variants of the study, in label
-// order (variants that never ran have no results), and the labels of
-// those still running.
-func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, opts Options) ([]Variant, []string, error) {
+// Harvest reads the histories of every variant of vs (the study's
+// variants with their states and jobs, in label order, as the study's
+// status gives them) that has run or runs now, judges each quantity of the
+// recipe (see Judge), records the results in the study database and
+// writes results/summary.json and results/summary.csv. It returns the
+// variants with their results (those that never ran have none), and the
+// labels of those still running.
+func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, vs []Variant, opts Options) ([]Variant, []string, error) {
 	if len(r.Quantities) == 0 {
 		return nil, nil, fmt.Errorf("%w: %s declares no [[quantity]]; add one saying which history files and column to read", recipe.ErrInvalid, recipe.FileName)
 	}
-	rep, err := runner.Status(st, r.Name)
+	prev, err := Load(st, vs)
 	if err != nil {
 		return nil, nil, err
 	}
-	prev, err := Load(r, st)
-	if err != nil {
-		return nil, nil, err
-	}
-	vs := make([]Variant, len(rep.Variants))
+	vs = slices.Clone(vs)
 	var todo []int
-	for i, v := range rep.Variants {
-		vs[i] = Variant{ID: v.ID, Label: v.Label, Name: v.Name, Params: v.Params, State: v.State, Values: v.Values, Seq: v.Seq}
+	for i, v := range vs {
+		vs[i].Results, vs[i].Harvested = nil, time.Time{}
 		if started(v) {
 			todo = append(todo, i)
 		}
@@ -77,7 +77,7 @@ func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, opts Option
 		go func() {
 			defer wg.Done()
 			for i := range work {
-				vs[i].Results = Judge(r, plan.Dir(r.Dir, vs[i].Label), rep.Variants[i])
+				vs[i].Results = Judge(r, plan.Dir(r.Dir, vs[i].Label), vs[i])
 				vs[i].Harvested = time.Now().UTC()
 				mu.Lock()
 				done++
@@ -143,7 +143,7 @@ func Harvest(ctx context.Context, r *recipe.Recipe, st *store.Store, opts Option
 //
 // Statistics of a quantity's cycles (recipe.Quantity.Derived) are judged
 // from their quantity's result.
-func Judge(r *recipe.Recipe, dir string, v runner.VariantStatus) map[string]harvest.Result {
+func Judge(r *recipe.Recipe, dir string, v Variant) map[string]harvest.Result {
 	settledAt := map[string]float64{}
 	last := math.Inf(-1)
 	failedStage, failedWhy := "", ""
@@ -188,7 +188,7 @@ func Judge(r *recipe.Recipe, dir string, v runner.VariantStatus) map[string]harv
 }
 
 // started reports whether a variant has a stage that ran or runs.
-func started(v runner.VariantStatus) bool {
+func started(v Variant) bool {
 	for _, j := range v.Jobs {
 		if j.State == store.Done || j.State == store.Running || j.State == store.Failed || j.Attempts > 0 || j.Interrupts > 0 {
 			return true
@@ -197,26 +197,22 @@ func started(v runner.VariantStatus) bool {
 	return false
 }
 
-// Load returns the study's variants with the results of their last
-// harvest.
-func Load(r *recipe.Recipe, st *store.Store) ([]Variant, error) {
-	rep, err := runner.Status(st, r.Name)
-	if err != nil {
-		return nil, err
-	}
-	vs := make([]Variant, len(rep.Variants))
-	err = st.View(func(tx *store.Tx) error {
-		for i, v := range rep.Variants {
-			vs[i] = Variant{ID: v.ID, Label: v.Label, Name: v.Name, Params: v.Params, State: v.State, Values: v.Values, Seq: v.Seq}
+// Load returns the variants of vs with the results of their last
+// harvest, from the study database.
+func Load(st *store.Store, vs []Variant) ([]Variant, error) {
+	out := slices.Clone(vs)
+	err := st.View(func(tx *store.Tx) error {
+		for i, v := range out {
+			out[i].Results, out[i].Harvested = nil, time.Time{}
 			res, ok, err := tx.Results(v.Seq)
 			if err != nil {
 				return err
 			}
 			if ok {
-				vs[i].Results, vs[i].Harvested = records.Results(res.Quantities), res.Harvested
+				out[i].Results, out[i].Harvested = records.Results(res.Quantities), res.Harvested
 			}
 		}
 		return nil
 	})
-	return vs, err
+	return out, err
 }

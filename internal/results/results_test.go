@@ -14,6 +14,8 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
+	"github.com/sweep-cfd/sweep/internal/records"
+	"github.com/sweep-cfd/sweep/internal/runner"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -102,7 +104,7 @@ func setup(t *testing.T, means []float64) (*recipe.Recipe, *store.Store) {
 func TestHarvestAndRank(t *testing.T) {
 	means := []float64{1.100, 1.000, 1.0002}
 	r, st := setup(t, means)
-	vs, _, err := Harvest(context.Background(), r, st, Options{})
+	vs, _, err := Harvest(context.Background(), r, st, planned(t, st), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -155,7 +157,7 @@ func TestHarvestAndRank(t *testing.T) {
 		t.Errorf("summary.csv: %v\n%s", err, csv)
 	}
 	// The harvest is kept in the database.
-	again, err := Load(r, st)
+	again, err := Load(st, planned(t, st))
 	if err != nil || again[1].Results["drag"].Mean != vs[1].Results["drag"].Mean {
 		t.Errorf("reloaded: %v", err)
 	}
@@ -170,7 +172,7 @@ func TestHarvestNaN(t *testing.T) {
 	f, _ := os.OpenFile(p, os.O_APPEND|os.O_WRONLY, 0)
 	fmt.Fprintln(f, "20000 nan 0")
 	f.Close()
-	vs, _, err := Harvest(context.Background(), r, st, Options{})
+	vs, _, err := Harvest(context.Background(), r, st, planned(t, st), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -181,4 +183,40 @@ func TestHarvestNaN(t *testing.T) {
 	if len(rk.Rows) != 1 || rk.Rows[0].Label != "v001" {
 		t.Errorf("rows %+v", rk.Rows)
 	}
+}
+
+// planned reads the study's rendered variants with their jobs and states
+// from the database, as the study layer's status gives them.
+func planned(t *testing.T, st *store.Store) []Variant {
+	t.Helper()
+	var vs []Variant
+	idx := map[uint64]int{}
+	err := st.View(func(tx *store.Tx) error {
+		if err := tx.Variants(func(v store.Variant) error {
+			if v.Rendered {
+				idx[v.Seq] = len(vs)
+				vs = append(vs, Variant{ID: v.ID, Label: v.Label, Name: v.Name, Seq: v.Seq, Values: records.RecipeValues(v.Values), Params: map[string]any{}})
+			}
+			return nil
+		}); err != nil {
+			return err
+		}
+		return tx.Jobs(func(j store.Job) error {
+			if i, ok := idx[j.Variant]; ok {
+				vs[i].Jobs = append(vs[i].Jobs, j)
+			}
+			return nil
+		})
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range vs {
+		var ptrs []*store.Job
+		for k := range vs[i].Jobs {
+			ptrs = append(ptrs, &vs[i].Jobs[k])
+		}
+		vs[i].State = runner.VariantState(ptrs)
+	}
+	return vs
 }

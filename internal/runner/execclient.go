@@ -13,6 +13,8 @@ import (
 	"strings"
 	"syscall"
 	"time"
+
+	"github.com/sweep-cfd/sweep/internal/store"
 )
 
 // errNoExecutor says that no executor serves the study.
@@ -74,6 +76,11 @@ func executorAlive(meta string) bool {
 	syscall.Flock(int(f.Fd()), syscall.LOCK_UN)
 	return false
 }
+
+// ExecutorAlive reports whether the executor of the study in studyDir
+// runs (it holds its lock), so the study's stages go on without a run.
+// Unlike executorAlive it creates nothing.
+func ExecutorAlive(studyDir string) bool { return executorRunning(filepath.Join(studyDir, store.Dir)) }
 
 // executorRunning is executorAlive for readers: it creates nothing.
 func executorRunning(meta string) bool {

@@ -1,10 +1,9 @@
-package runner
+package study
 
 import (
-	"path/filepath"
-
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/records"
+	"github.com/sweep-cfd/sweep/internal/runner"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
 
@@ -47,7 +46,9 @@ type Report struct {
 	ExecutorAlive bool `json:"executor_alive"`
 }
 
-// Status reads the study's variants and their states.
+// Status reads the study's variants and their states. A running variant
+// is orphaned when nothing watches its stage: no process holds the study
+// and the study's executor is not alive (the rule text and JSON share).
 func Status(st *store.Store, name string) (*Report, error) {
 	rep := &Report{Study: name}
 	idx := map[uint64]int{}
@@ -91,14 +92,14 @@ func Status(st *store.Store, name string) (*Report, error) {
 		return nil, err
 	}
 	rep.RunActive = store.Held(st.StudyDir())
-	rep.ExecutorAlive = executorRunning(filepath.Join(st.StudyDir(), store.Dir))
+	rep.ExecutorAlive = runner.ExecutorAlive(st.StudyDir())
 	for i := range rep.Variants {
 		vs := &rep.Variants[i]
 		ptrs := make([]*store.Job, len(vs.Jobs))
 		for k := range vs.Jobs {
 			ptrs[k] = &vs.Jobs[k]
 		}
-		vs.State = VariantState(ptrs)
+		vs.State = runner.VariantState(ptrs)
 		for _, j := range vs.Jobs {
 			if j.State != store.Done {
 				vs.Stage, vs.Reason = j.Stage, j.Reason
