@@ -160,16 +160,16 @@ func printPlanSummary(w io.Writer, r *recipe.Recipe, res *plan.Result, dry bool)
 	}
 	if q, err := r.Objective(""); err == nil {
 		line := fmt.Sprintf("objective: %s", q.Name)
-		if q.Direction != recipe.None {
-			line += fmt.Sprintf(" (%s is better)", q.Direction)
+		if q.Directed() {
+			line += fmt.Sprintf(" (%s is better)", q.BetterWord())
 		} else {
 			line += " (no better = ...; ranked lowest first)"
 		}
 		var also []string
 		names := []string{q.Name}
 		for _, o := range r.Quantities {
-			if o.Name != q.Name && o.Direction != recipe.None {
-				also = append(also, fmt.Sprintf("%s (%s is better)", o.Name, o.Direction))
+			if o.Name != q.Name && o.Directed() {
+				also = append(also, fmt.Sprintf("%s (%s is better)", o.Name, o.BetterWord()))
 				names = append(names, o.Name)
 			}
 		}

@@ -186,7 +186,7 @@ func (p *Problem) FitFront(base Options) (*Front, error) {
 		objs = append(objs, rep)
 		byName[o.Quantity] = rep
 		f.Objectives = append(f.Objectives, o.Quantity)
-		f.Better = append(f.Better, map[bool]string{true: "higher", false: "lower"}[o.Maximize])
+		f.Better = append(f.Better, recipe.BetterWord(!o.Maximize))
 	}
 	ls, lreps, err := p.limitSurfaces(base, byName)
 	if err != nil {

@@ -109,6 +109,22 @@ func (q *Quantity) Better(a, b float64) bool {
 // LowerIsBetter reports whether smaller values of q rank first.
 func (q *Quantity) LowerIsBetter() bool { return q.Direction != Higher }
 
+// Directed reports whether the quantity says which values are better
+// (better = "lower" or "higher"): an objective, not only reported.
+func (q *Quantity) Directed() bool { return q.Direction != None }
+
+// BetterWord returns "lower" or "higher": which values rank first (lower
+// for a quantity that does not say).
+func (q *Quantity) BetterWord() string { return BetterWord(q.LowerIsBetter()) }
+
+// BetterWord returns "lower" when lower values are better, else "higher".
+func BetterWord(lowerIsBetter bool) string {
+	if lowerIsBetter {
+		return Lower.String()
+	}
+	return Higher.String()
+}
+
 // Settle says when and how a stage's solver is stopped once its
 // averages have settled (converged to their tolerance).
 type Settle struct {

@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/tradeoff"
 )
 
@@ -130,11 +131,7 @@ func CheckLimits(v *Variant, limits []Limit) LimitCheck {
 // each row saying so with its chance of keeping them; a variant whose
 // limited quantity has no interval is left out.
 func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string, limits ...Limit) Ranking {
-	better := "higher"
-	if lowerIsBetter {
-		better = "lower"
-	}
-	rk := Ranking{Quantity: quantity, Better: better, Baseline: baseline}
+	rk := Ranking{Quantity: quantity, Better: recipe.BetterWord(lowerIsBetter), Baseline: baseline}
 	for _, l := range limits {
 		rk.Limits = append(rk.Limits, l.Text)
 	}

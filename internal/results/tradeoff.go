@@ -99,7 +99,7 @@ const tradeDraws = 5000
 func Tradeoff(vs []Variant, objs []Objective, limits []Limit, seed uint64) Trade {
 	t := Trade{Objectives: objs, Draws: tradeDraws}
 	for i := range t.Objectives {
-		t.Objectives[i].Better = map[bool]string{true: "lower", false: "higher"}[objs[i].LowerIsBetter]
+		t.Objectives[i].Better = recipe.BetterWord(objs[i].LowerIsBetter)
 	}
 	for _, l := range limits {
 		t.Limits = append(t.Limits, l.Text)

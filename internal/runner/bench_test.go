@@ -89,4 +89,3 @@ func requeueAll(b *testing.B, dir string) {
 		b.Fatal(err)
 	}
 }
-

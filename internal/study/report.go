@@ -91,7 +91,7 @@ func (s *Study) Model(ctx context.Context, opts ReportOptions) (*report.Study, e
 	if len(trade) == 1 {
 		trade = nil
 		for i := range r.Quantities {
-			if r.Quantities[i].Direction != recipe.None {
+			if r.Quantities[i].Directed() {
 				trade = append(trade, &r.Quantities[i])
 			}
 		}
@@ -103,13 +103,10 @@ func (s *Study) Model(ctx context.Context, opts ReportOptions) (*report.Study, e
 }
 
 func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st *Report, baseline string) report.Study {
-	s := report.Study{Name: r.Name, Description: r.Description, Generated: time.Now(), Objective: q.Name, Better: q.Direction.String(),
+	s := report.Study{Name: r.Name, Description: r.Description, Generated: time.Now(), Objective: q.Name, Better: q.BetterWord(),
 		Caution:  "These results need validation — mesh and time-step checks, comparison with trusted references and review by qualified people — before they steer a decision; local codes and licensed practice prevail.",
 		Counts:   report.Counts{Done: st.Counts.Done, Failed: st.Counts.Failed, Pending: st.Counts.Pending, Running: st.Counts.Running},
 		Baseline: baseline, ObjectiveUnit: q.Unit}
-	if s.Better == "" {
-		s.Better = recipe.Lower.String()
-	}
 	for _, p := range r.Params {
 		rp := report.Param{Name: p.Name, Kind: p.Kind.String(), Unit: p.Unit}
 		switch p.Kind {
@@ -266,7 +263,7 @@ func reportTradeoff(r *recipe.Recipe, qs []*recipe.Quantity, vs []results.Varian
 		lo, hi := q.Limits()
 		t.Lo, t.Hi = append(t.Lo, lo), append(t.Hi, hi)
 		t.Objectives, t.Units = append(t.Objectives, q.Name), append(t.Units, q.Unit)
-		t.Better = append(t.Better, map[bool]string{true: "lower", false: "higher"}[q.LowerIsBetter()])
+		t.Better = append(t.Better, q.BetterWord())
 	}
 	for _, row := range tr.Rows {
 		tr := report.TradeRow{Label: row.Label, Params: strParams(row.Params), Front: row.Layer == 1, Chance: row.ChanceFront, Status: results.StatusText(row)}

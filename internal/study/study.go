@@ -162,7 +162,7 @@ func Objectives(r *recipe.Recipe, spec string, several bool) ([]*recipe.Quantity
 			return nil, usage(fmt.Errorf("--quantity %q names %s twice", spec, q.Name))
 		}
 		seen[q.Name] = true
-		if len(names) > 1 && q.Direction == recipe.None {
+		if len(names) > 1 && !q.Directed() {
 			return nil, usage(fmt.Errorf("quantity %q (%s:%d) does not say which values are better: add better = \"lower\" or \"higher\" to it to trade it against the others", q.Name, recipe.FileName, q.Line))
 		}
 		qs = append(qs, q)
