@@ -11,6 +11,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/history"
 	"github.com/sweep-cfd/sweep/internal/ui"
 )
 
@@ -43,15 +44,15 @@ one, and a verdict against the tolerance.`,
 			return nil
 		},
 		RunE: func(cmd *cobra.Command, args []string) error {
-			q := harvest.Quantity{Files: globEscape(filepath.Base(args[0])), Comment: opts.comment}
+			q := history.Quantity{Files: globEscape(filepath.Base(args[0])), Comment: opts.comment}
 			if err := q.Time.UnmarshalTOML(opts.time); err != nil {
 				return usageError{fmt.Errorf("--time: %w", err)}
 			}
-			var t harvest.Term
+			var t history.Term
 			if err := t.UnmarshalTOML(opts.column); err != nil {
 				return usageError{fmt.Errorf("--column: %w", err)}
 			}
-			q.Value = []harvest.Term{t}
+			q.Value = []history.Term{t}
 			o := harvest.Options{Abs: opts.abs, Rel: opts.rel}
 			if cmd.Flags().Changed("start") {
 				o.Start = &opts.start

@@ -1,8 +1,14 @@
+// File: The average of a history without a regular cycle: MSER-5 and the
+// early/late check for the transient, Geyer's τ_int, batch means of at
+// least ten τ_int (Schmeiser 1982).
+
 package harvest
 
 import (
 	"fmt"
 	"math"
+
+	"github.com/sweep-cfd/sweep/internal/estimate"
 )
 
 // analyzeBroadband averages a history without a regular cycle (turbulent
@@ -34,7 +40,7 @@ import (
 // calculation of posterior moments", in Bayesian Statistics 4 (1992)
 // 169–193; P. Heidelberger and P. D. Welch, "Simulation run length control
 // in the presence of an initial transient", Operations Research 31(6)
-// (1983) 1109–1144; see MSER5 and GeyerTime for the others.
+// (1983) 1109–1144; see estimate.MSER5 and estimate.GeyerTime for the others.
 //
 // p is the period, in samples, of a clear spectral peak of the developed
 // part (0 if none).
@@ -43,7 +49,7 @@ func analyzeBroadband(ys []float64, start int, o Options, p float64) analysis {
 	n := len(ys)
 	cut := start
 	if start < 0 {
-		d, lim := mser(ys, 5)
+		d, lim := estimate.MSER(ys, 5)
 		cut, a.cutMethod = 5*d, "mser5"
 		if lim {
 			a.notes = append(a.notes, "the MSER-5 cut fell at the half-run limit")
@@ -53,31 +59,31 @@ func analyzeBroadband(ys []float64, start int, o Options, p float64) analysis {
 	if n-cut < o.MinSamples {
 		a.short = fmt.Sprintf("%d samples, need %d", n-cut, o.MinSamples)
 		a.needMore = float64(o.MinSamples - (n - cut))
-		a.mean, _ = meanVariance(ys[cut:])
+		a.mean, _ = estimate.MeanVariance(ys[cut:])
 		return a
 	}
-	lrv, tau := longRunTone(ys[cut:], p)
+	lrv, tau := estimate.LongRunTone(ys[cut:], p)
 	if start < 0 {
 		for {
-			z, diff := earlyLateZ(ys[cut:], lrv)
-			if math.Abs(z) <= gewekeZ || math.Abs(diff) <= negligibleChange(o, ys[cut:]) {
+			z, diff := estimate.EarlyLateZ(ys[cut:], lrv)
+			if math.Abs(z) <= estimate.GewekeZ || math.Abs(diff) <= negligibleChange(o, ys[cut:]) {
 				break
 			}
-			next := cut + int(float64(n-cut)*gewekeA)
+			next := cut + int(float64(n-cut)*estimate.GewekeA)
 			if next > n/2 {
 				a.drifting = driftNote(o, ys[cut:], diff, z, "the first tenth of the averaging window differs from its second half")
 				a.notes = append(a.notes, fmt.Sprintf("the transient was cut at the half-run limit; the first tenth of the window still differs from its second half by %.3g (z = %.1f)", diff, z))
 				break
 			}
 			cut = next
-			lrv, tau = longRunTone(ys[cut:], p)
+			lrv, tau = estimate.LongRunTone(ys[cut:], p)
 		}
 	}
 	a.cut = float64(cut)
 	x := ys[cut:]
 	N := len(x)
 	a.n, a.tau = N, tau
-	mean, v := meanVariance(x)
+	mean, v := estimate.MeanVariance(x)
 	a.mean = mean
 	m := max(1, int(math.Ceil(batchTau*tau)))
 	b := N / m
@@ -91,15 +97,15 @@ func analyzeBroadband(ys []float64, start int, o Options, p float64) analysis {
 		b = N / m
 	}
 	a.batches, a.batchSize = b, m
-	seBM := batchStdError(x[N-m*b:], m, b, N)
+	seBM := estimate.BatchStdError(x[N-m*b:], m, b, N)
 	bx := make([]float64, b)
 	for j := range bx {
 		bx[j] = (float64(j) + 0.5) * float64(m)
 	}
-	a.trend, a.trendSD = batchTrend(bx, blockMeans(x[N-m*b:], m)[:b], float64(N))
+	a.trend, a.trendSD = batchTrend(bx, estimate.BlockMeans(x[N-m*b:], m)[:b], float64(N))
 	seAC := math.Sqrt(lrv / float64(N))
 	a.se, a.dof = seBM, float64(b-1)
-	if z := tQuantile(o.Confidence, math.Inf(1)); z*seAC > tQuantile(o.Confidence, a.dof)*seBM {
+	if z := estimate.TQuantile(o.Confidence, math.Inf(1)); z*seAC > estimate.TQuantile(o.Confidence, a.dof)*seBM {
 		a.se, a.dof = seAC, math.Inf(1)
 	}
 	// The rms of the fluctuation, with the batch-means error of the mean
@@ -109,7 +115,7 @@ func analyzeBroadband(ys []float64, start int, o Options, p float64) analysis {
 		sq[i] = (y - mean) * (y - mean)
 	}
 	rms := math.Sqrt(v)
-	seMS := batchStdError(sq, m, b, len(sq))
+	seMS := estimate.BatchStdError(sq, m, b, len(sq))
 	a.rms = Statistic{Value: rms, StdError: seMS / (2 * rms), Dof: float64(b - 1)}
 	if rms == 0 {
 		a.rms.StdError = 0
@@ -117,122 +123,12 @@ func analyzeBroadband(ys []float64, start int, o Options, p float64) analysis {
 	return a
 }
 
-// longRun returns the long-run variance σ²τ (n times the variance of the
-// mean) of x and τ_int in samples, by Geyer's estimator; beyond
-// maxACFLength samples on block means of B samples, σ²τ = B·σ²_B·τ_B.
-func longRun(x []float64) (lrv, tau float64) {
-	_, vx := meanVariance(x)
-	if len(x) < 2 || vx == 0 {
-		return 0, 1
-	}
-	bs := (len(x) + maxACFLength - 1) / maxACFLength
-	xb := x
-	if bs > 1 {
-		xb = blockMeans(x, bs)
-	}
-	g := autocovariance(xb, len(xb)-1)
-	tb, _ := geyerFromCov(g, len(xb))
-	lrv = float64(bs) * g[0] * tb
-	// τ in samples relative to the biased variance of x, as γ̂_0 is.
-	v0 := vx * float64(len(x)-1) / float64(len(x))
-	return lrv, math.Max(lrv/v0, 1/float64(len(x)))
-}
-
-// longRunTone is longRun of x without its tone of period p samples (the
-// least-squares sinusoid at that period), when there is one (p ≥ 2).
-func longRunTone(x []float64, p float64) (lrv, tau float64) {
-	if p >= 2 {
-		return longRun(removeTone(x, p))
-	}
-	return longRun(x)
-}
-
-// removeTone returns x minus its least-squares sinusoid of period p
-// samples (and its mean).
-func removeTone(x []float64, p float64) []float64 {
-	mean, _ := meanVariance(x)
-	w := 2 * math.Pi / p
-	var scc, sss, scs, syc, sys float64
-	for i, v := range x {
-		sn, cs := math.Sincos(w * float64(i))
-		d := v - mean
-		scc += cs * cs
-		sss += sn * sn
-		scs += sn * cs
-		syc += d * cs
-		sys += d * sn
-	}
-	det := scc*sss - scs*scs
-	if det == 0 {
-		return x
-	}
-	a := (syc*sss - sys*scs) / det
-	b := (sys*scc - syc*scs) / det
-	r := make([]float64, len(x))
-	for i, v := range x {
-		sn, cs := math.Sincos(w * float64(i))
-		r[i] = v - mean - a*cs - b*sn
-	}
-	return r
-}
-
-// blockMeans returns the means of consecutive blocks of bs samples.
-func blockMeans(x []float64, bs int) []float64 {
-	z := make([]float64, len(x)/bs)
-	for j := range z {
-		var s float64
-		for _, v := range x[j*bs : (j+1)*bs] {
-			s += v
-		}
-		z[j] = s / float64(bs)
-	}
-	return z
-}
-
-// batchStdError returns the batch-means standard error of the mean of N
-// samples whose last b·m samples are x, in b batches of m:
-//
-//	SE² = m S²_B / N,   S²_B the sample variance of the batch means,
-//
-// m S²_B estimating the long-run variance σ²τ.
-func batchStdError(x []float64, m, b, N int) float64 {
-	z := blockMeans(x, m)[:b]
-	_, v := meanVariance(z)
-	return math.Sqrt(float64(m) * v / float64(N))
-}
-
-const (
-	gewekeZ = 1.959964 // two-sided 95 % normal quantile
-	gewekeA = 0.1      // early part and cut step, as a fraction of the window
-)
-
-// earlyLateZ compares the mean of the first tenth of x with the mean of its
-// second half, in units of their standard error from the long-run variance
-// lrv = σ²τ:
-//
-//	z = (x̄_A − x̄_B) / √(lrv/n_A + lrv/n_B).
-//
-// Reference: J. Geweke (1992), as above (first 10 % against last 50 %).
-//
-// It also returns the difference itself.
-func earlyLateZ(x []float64, lrv float64) (z, diff float64) {
-	n := len(x)
-	na, nb := int(float64(n)*gewekeA), n/2
-	if na < 1 || nb < 1 || lrv <= 0 {
-		return 0, 0
-	}
-	ma, _ := meanVariance(x[:na])
-	mb, _ := meanVariance(x[n-nb:])
-	diff = ma - mb
-	return diff / math.Sqrt(lrv/float64(na)+lrv/float64(nb)), diff
-}
-
 // driftNote says why the average drifts when the early part of the
 // window still differs from its second half by diff at the half-run
 // limit, and the difference matters: more than half the tolerance.
 // Otherwise it returns "" (the average stands, with a note).
 func driftNote(o Options, x []float64, diff, z float64, what string) string {
-	m, v := meanVariance(x)
+	m, v := estimate.MeanVariance(x)
 	if math.Abs(diff) <= o.tolerance(math.Max(math.Abs(m), math.Sqrt(v)))/2 {
 		return ""
 	}
@@ -243,6 +139,6 @@ func driftNote(o Options, x []float64, diff, z float64, what string) string {
 // transient: a tenth of the tolerance on the window's scale (the larger of
 // |mean| and its rms).
 func negligibleChange(o Options, x []float64) float64 {
-	m, v := meanVariance(x)
+	m, v := estimate.MeanVariance(x)
 	return o.tolerance(math.Max(math.Abs(m), math.Sqrt(v))) / 10
 }

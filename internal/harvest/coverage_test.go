@@ -9,23 +9,9 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-)
 
-// ar1 returns n samples of stationary AR(1) noise x_i = φ x_{i−1} + e_i,
-// e_i ~ N(0, s²), started from its stationary law. Its variance is
-// s²/(1−φ²) and its integrated autocorrelation time (1+φ)/(1−φ)
-// (textbook result, e.g. Sokal 1997, sec. 3).
-func ar1(rng *rand.Rand, n int, phi, s float64) []float64 {
-	x := make([]float64, n)
-	v := rng.NormFloat64() * s / math.Sqrt(1-phi*phi)
-	for i := range x {
-		if i > 0 {
-			v = phi*v + s*rng.NormFloat64()
-		}
-		x[i] = v
-	}
-	return x
-}
+	"github.com/sweep-cfd/sweep/internal/studytest"
+)
 
 // family is one class of synthetic histories whose true mean is known.
 type family struct {
@@ -62,7 +48,7 @@ func arFamily(phi float64, n int) family {
 	return family{name: "ar1 φ=" + strconv.FormatFloat(phi, 'g', -1, 64), count: 500, n: n,
 		gen: func(rng *rand.Rand, i, n int) ([]float64, float64, []float64, float64, float64) {
 			noise := 1 / math.Sqrt(1-phi*phi)
-			y, tr := withTransient(rng, ar1(rng, n, phi, 1), 1, noise)
+			y, tr := withTransient(rng, studytest.AR1(rng, n, phi, 1), 1, noise)
 			return y, 1, tr, noise, (1 + phi) / (1 - phi)
 		}}
 }
@@ -75,7 +61,7 @@ func sineFamily(name string, amp float64) family {
 		gen: func(rng *rand.Rand, i, n int) ([]float64, float64, []float64, float64, float64) {
 			period := 10 + 190*rng.Float64()
 			phase := 2 * math.Pi * rng.Float64()
-			x := ar1(rng, n, 0.5, 0.5)
+			x := studytest.AR1(rng, n, 0.5, 0.5)
 			for j := range x {
 				x[j] += amp * math.Sin(2*math.Pi*float64(j)/period+phase)
 			}
@@ -97,7 +83,7 @@ func sheddingFamily() family {
 			phase := 2 * math.Pi * rng.Float64()
 			grow := float64(n) * (0.03 + 0.05*rng.Float64())
 			shift := 0.3 * (1 + rng.Float64())
-			noise := ar1(rng, n, 0.9, 0.2*math.Sqrt(1-0.81))
+			noise := studytest.AR1(rng, n, 0.9, 0.2*math.Sqrt(1-0.81))
 			y := make([]float64, n)
 			tr := make([]float64, n)
 			const mu, amp = 3.0, 1.0

@@ -1,8 +1,14 @@
+// File: Statistics of a history's cycles (maxima, minima, amplitude, rms,
+// frequency, Strouhal number) as averages of their own, each with its
+// Student t interval over batches of cycles.
+
 package harvest
 
 import (
 	"fmt"
 	"math"
+
+	"github.com/sweep-cfd/sweep/internal/estimate"
 )
 
 // Derived returns a statistic of r's history as a result of its own, so
@@ -53,7 +59,7 @@ func (r Result) Derived(stat string, opts Options, length, speed float64) Result
 		d.Verdict, d.Message = NoData, fmt.Sprintf("the %s has no interval", stat)
 		return d
 	}
-	d.HalfWidth = tQuantile(o.Confidence, s.Dof) * s.StdError
+	d.HalfWidth = estimate.TQuantile(o.Confidence, s.Dof) * s.StdError
 	d.Scale = math.Abs(s.Value)
 	d.Tolerance = o.tolerance(d.Scale)
 	if r.Cycle != nil {
@@ -78,5 +84,5 @@ func (r Result) Derived(stat string, opts Options, length, speed float64) Result
 // HalfWidth returns the half-width of a statistic's confidence interval
 // at confidence conf (Student t on its degrees of freedom).
 func HalfWidth(s Statistic, conf float64) float64 {
-	return tQuantile(conf, s.Dof) * s.StdError
+	return estimate.TQuantile(conf, s.Dof) * s.StdError
 }

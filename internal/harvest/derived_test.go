@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // Ensure that the cycle statistics of a sinusoid in noise are recovered
@@ -19,7 +21,7 @@ func TestDerivedStatistics(t *testing.T) {
 	n := 8000
 	tt := make([]float64, n)
 	y := make([]float64, n)
-	noise := ar1(rng, n, 0.5, 0.0005)
+	noise := studytest.AR1(rng, n, 0.5, 0.0005)
 	for i := range y {
 		tt[i] = float64(i) * dt
 		y[i] = 1 + A*math.Sin(2*math.Pi*tt[i]/P+0.3) + noise[i]
@@ -53,7 +55,7 @@ func TestDerivedStatistics(t *testing.T) {
 	}
 	// A broadband history has an rms but no cycle statistics; a steady
 	// one has neither.
-	b := Analyze(tt, ar1(rng, n, 0.5, 1), Options{Abs: 1})
+	b := Analyze(tt, studytest.AR1(rng, n, 0.5, 1), Options{Abs: 1})
 	if d := b.Derived("max", opts, 1, 1); d.Verdict != NoData || d.Message != "the history has no regular cycle, so it has no max" {
 		t.Errorf("broadband max: %s %q", d.Verdict, d.Message)
 	}

@@ -1,34 +1,35 @@
 package harvest
 
 import (
-	"encoding/json"
 	"errors"
 	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/sweep-cfd/sweep/internal/history"
 )
 
 // fuzzQuantity builds the quantity a recipe would give for column specs
 // as written there: the time column, value columns separated by '+', the
 // first one scaled by factor, and the comment marker. It reports false
 // when a spec does not parse (the recipe refuses it).
-func fuzzQuantity(timeSpec, valueSpec string, factor float64, comment string) (Quantity, bool) {
-	q := Quantity{Files: "forces_*.dat", Comment: comment}
+func fuzzQuantity(timeSpec, valueSpec string, factor float64, comment string) (history.Quantity, bool) {
+	q := history.Quantity{Files: "forces_*.dat", Comment: comment}
 	if timeSpec != "" {
-		c, err := ParseColumn(timeSpec)
+		c, err := history.ParseColumn(timeSpec)
 		if err != nil {
 			return q, false
 		}
 		q.Time = c
 	}
 	for i, s := range strings.Split(valueSpec, "+") {
-		c, err := ParseColumn(s)
+		c, err := history.ParseColumn(s)
 		if err != nil {
 			return q, false
 		}
-		t := Term{Column: c}
+		t := history.Term{Column: c}
 		if i == 0 {
 			t.Factor = factor
 		}
@@ -74,10 +75,10 @@ func FuzzReadSeries(f *testing.F) {
 				t.Fatal(err)
 			}
 		}
-		s, err := ReadSeries(dir, q)
+		s, err := history.ReadSeries(dir, q)
 		if err != nil {
-			var le *LineError
-			if !errors.As(err, &le) && !errors.Is(err, ErrNoData) && !errors.Is(err, ErrNoFiles) {
+			var le *history.LineError
+			if !errors.As(err, &le) && !errors.Is(err, history.ErrNoData) && !errors.Is(err, history.ErrNoFiles) {
 				t.Fatalf("error %T outside the reader's: %v", err, err)
 			}
 		} else {
@@ -97,55 +98,6 @@ func FuzzReadSeries(f *testing.F) {
 		// says what it found.
 		if r, _ := Harvest(dir, q, Options{}); r.Verdict == "" {
 			t.Fatalf("no verdict: %+v", r)
-		}
-	})
-}
-
-// FuzzColumnSpec checks the column and term specs of a quantity as a
-// recipe or a stored study gives them: a column written as text, and a
-// value term in its JSON form. Whatever is accepted names a column and
-// reads back the same after writing.
-func FuzzColumnSpec(f *testing.F) {
-	for _, s := range []struct{ text, term string }{
-		{"Cd", `"Fx_p"`},
-		{"3", `2`},
-		{" 12 ", `{"column": 3, "factor": -1}`},
-		{"0", `{"column": "Cd(total)", "factor": 1e-3}`},
-		{"-4", `{"factor": 2}`},
-		{"+7", `{"column": 2.5}`},
-		{"", `{"column": 1, "factor": 0}`},
-		{"x y", `[1]`},
-	} {
-		f.Add(s.text, []byte(s.term))
-	}
-	f.Fuzz(func(t *testing.T, text string, term []byte) {
-		if c, err := ParseColumn(text); err == nil {
-			if c.IsZero() || c.Index < 0 || (c.Name == "" && c.Index < 1) {
-				t.Fatalf("%q gives the column %+v", text, c)
-			}
-			b, err := json.Marshal(c)
-			if err != nil {
-				t.Fatalf("%+v: %v", c, err)
-			}
-			var back Column
-			if err := json.Unmarshal(b, &back); err != nil || back != c {
-				t.Fatalf("%q: %+v writes %s, which reads back as %+v (%v)", text, c, b, back, err)
-			}
-		}
-		var tm Term
-		if err := json.Unmarshal(term, &tm); err != nil {
-			return
-		}
-		if tm.Column.IsZero() || tm.Column.Index < 0 {
-			t.Fatalf("%s gives the term %+v", term, tm)
-		}
-		b, err := json.Marshal(tm)
-		if err != nil {
-			t.Fatalf("%+v: %v", tm, err)
-		}
-		var back Term
-		if err := json.Unmarshal(b, &back); err != nil || back != tm {
-			t.Fatalf("%s: %+v writes %s, which reads back as %+v (%v)", term, tm, b, back, err)
 		}
 	})
 }

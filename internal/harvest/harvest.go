@@ -1,22 +1,27 @@
+// File: Read and judge a variant's history, and the settle check of a running
+// solver. No method of its own.
+
 package harvest
 
 import (
 	"errors"
 	"fmt"
+
+	"github.com/sweep-cfd/sweep/internal/history"
 )
 
 // Harvest reads the history of q in the variant directory dir (see
-// ReadSeries) and analyses it (see Analyze). The Result is always usable:
+// history.ReadSeries) and analyses it (see Analyze). The Result is always usable:
 // on a read error its verdict is NoData (no file, no data row) or Failed
 // (NaN or Inf, a diverged run; a broken file), its message is the error's
 // text, and the error is returned as well so that callers can test it
 // with errors.Is.
-func Harvest(dir string, q Quantity, opts Options) (Result, error) {
-	s, err := ReadSeries(dir, q)
+func Harvest(dir string, q history.Quantity, opts Options) (Result, error) {
+	s, err := history.ReadSeries(dir, q)
 	if err != nil {
 		r := unknown(opts.withDefaults().Confidence)
 		r.Verdict, r.Message = Failed, err.Error()
-		if errors.Is(err, ErrNoFiles) || errors.Is(err, ErrNoData) {
+		if errors.Is(err, history.ErrNoFiles) || errors.Is(err, history.ErrNoData) {
 			r.Verdict = NoData
 		}
 		if s != nil {
@@ -42,14 +47,14 @@ func Harvest(dir string, q Quantity, opts Options) (Result, error) {
 //
 // A history that does not exist yet or holds no data row is not an error
 // here: stop is false and the Result says why. Other read errors are
-// returned; ErrNonFinite means the run has diverged.
+// returned; history.ErrNonFinite means the run has diverged.
 //
 // Each call re-reads the files from the start, which costs well under a
 // second for a history of tens of MB (see BenchmarkReadHistory) and is
 // negligible beside a solver's time step.
-func Settled(dir string, q Quantity, opts Options, minSamples int) (stop bool, r Result, err error) {
+func Settled(dir string, q history.Quantity, opts Options, minSamples int) (stop bool, r Result, err error) {
 	r, err = Harvest(dir, q, opts)
-	if errors.Is(err, ErrNoFiles) || errors.Is(err, ErrNoData) {
+	if errors.Is(err, history.ErrNoFiles) || errors.Is(err, history.ErrNoData) {
 		return false, r, nil
 	}
 	if err != nil {

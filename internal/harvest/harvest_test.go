@@ -13,18 +13,22 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/sweep-cfd/sweep/internal/history"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 var update = flag.Bool("update", false, "rewrite golden files in testdata")
 
 // Ensure that harvesting the restart example gives the recorded result
-// (testdata/harvest_restart.golden, rewritten with -update). The history is
+// (testdata/harvest_restart.golden, rewritten with -update) of the
+// restart files the reader is tested on (../history/testdata). The history is
 // Cd = 0.9 + 0.5 e^{−t} + 0.05 sin(2πt/0.4) + N(0, 0.02²) sampled every
 // 0.01 s to t = 25 s, so the true mean is 0.9 and the period 0.4 s; the
 // result must hold both within its interval, whatever the golden says.
 func TestHarvestGolden(t *testing.T) {
-	q := Quantity{Files: "restart/forces_*.dat", Time: ColumnName("Time"), Value: []Term{{Column: ColumnName("Cd")}}}
-	r, err := Harvest("testdata", q, Options{Rel: 0.001})
+	q := history.Quantity{Files: "restart/forces_*.dat", Time: history.ColumnName("Time"), Value: []history.Term{{Column: history.ColumnName("Cd")}}}
+	r, err := Harvest(filepath.Join("..", "history", "testdata"), q, Options{Rel: 0.001})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -63,9 +67,9 @@ func TestHarvestGolden(t *testing.T) {
 // typed error.
 func TestHarvestReadError(t *testing.T) {
 	dir := t.TempDir()
-	write(t, dir, "f.dat", "0 1\n1 nan\n")
-	r, err := Harvest(dir, Quantity{Files: "f.dat", Value: []Term{{Column: ColumnIndex(2)}}}, Options{})
-	if !errors.Is(err, ErrNonFinite) || r.Verdict != Failed || !strings.Contains(r.Message, "f.dat:2") {
+	studytest.WriteFile(t, filepath.Join(dir, "f.dat"), "0 1\n1 nan\n", 0o644)
+	r, err := Harvest(dir, history.Quantity{Files: "f.dat", Value: []history.Term{{Column: history.ColumnIndex(2)}}}, Options{})
+	if !errors.Is(err, history.ErrNonFinite) || r.Verdict != Failed || !strings.Contains(r.Message, "f.dat:2") {
 		t.Errorf("verdict %s, message %q, error %v", r.Verdict, r.Message, err)
 	}
 }
@@ -75,7 +79,7 @@ func TestHarvestReadError(t *testing.T) {
 // enough samples; a line being written is ignored.
 func TestSettled(t *testing.T) {
 	dir := t.TempDir()
-	q := Quantity{Files: "out/coef*.dat", Value: []Term{{Column: ColumnIndex(2)}}}
+	q := history.Quantity{Files: "out/coef*.dat", Value: []history.Term{{Column: history.ColumnIndex(2)}}}
 	opts := Options{Abs: 0.01}
 
 	stop, r, err := Settled(dir, q, opts, 500)
@@ -100,7 +104,7 @@ func TestSettled(t *testing.T) {
 	// AR(1) noise, φ = 0.5, σ² = 4/3, around 1.5: the half-width reaches
 	// 0.01 after roughly (1.96/0.01)²·σ²·τ ≈ 150,000 samples.
 	rng := rand.New(rand.NewPCG(12, 12))
-	x := ar1(rng, 400000, 0.5, 1)
+	x := studytest.AR1(rng, 400000, 0.5, 1)
 	i, stoppedAt := 0, 0
 	for step := 20000; i < len(x); i += step {
 		for j := i; j < i+step; j++ {
@@ -128,5 +132,19 @@ func TestSettled(t *testing.T) {
 	}
 	if r.HalfWidth > 0.01 || math.Abs(r.Mean-1.5) > 3*r.StdError {
 		t.Errorf("stopped with %v ± %v", r.Mean, r.HalfWidth)
+	}
+}
+
+// BenchmarkHarvest reads and analyses a 10 MB, 140,000-line history (see
+// history.BenchmarkReadHistory for the reading alone).
+func BenchmarkHarvest(b *testing.B) {
+	dir := b.TempDir()
+	size := studytest.ForceHistory(b, filepath.Join(dir, "forces.dat"), 140000)
+	q := history.Quantity{Files: "forces.dat", Value: []history.Term{{Column: history.ColumnIndex(2)}}}
+	b.SetBytes(size)
+	for b.Loop() {
+		if _, err := Harvest(dir, q, Options{}); err != nil {
+			b.Fatal(err)
+		}
 	}
 }

@@ -1,8 +1,12 @@
+// File: The JSON form of results: unknown numbers are null. No method.
+
 package harvest
 
 import (
 	"encoding/json"
 	"math"
+
+	"github.com/sweep-cfd/sweep/internal/history"
 )
 
 // In JSON an unknown number (NaN, or an infinite number of degrees of
@@ -78,39 +82,39 @@ func (c *CycleStats) UnmarshalJSON(b []byte) error {
 
 // resultJSON is Result as written to JSON; the names are stable.
 type resultJSON struct {
-	Verdict          Verdict     `json:"verdict"`
-	Message          string      `json:"message,omitempty"`
-	Mean             jnum        `json:"mean"`
-	HalfWidth        jnum        `json:"half_width"`
-	StdError         jnum        `json:"std_error"`
-	Dof              jnum        `json:"dof"`
-	Confidence       jnum        `json:"confidence"`
-	Tolerance        jnum        `json:"tolerance"`
-	Scale            jnum        `json:"scale"`
-	Samples          int         `json:"samples"`
-	TauInt           jnum        `json:"tau_int"`
-	EffectiveSamples jnum        `json:"effective_samples"`
-	CorrelationTime  jnum        `json:"correlation_time"`
-	Method           string      `json:"method,omitempty"`
-	Batches          int         `json:"batches,omitempty"`
-	BatchSize        int         `json:"batch_size,omitempty"`
-	TransientEnd     jnum        `json:"transient_end"`
-	TransientMethod  string      `json:"transient_method,omitempty"`
-	EndTime          jnum        `json:"end_time"`
-	TimeStep         jnum        `json:"time_step"`
-	Resampled        bool        `json:"resampled,omitempty"`
-	Period           jnum        `json:"period"`
-	Periods          int         `json:"periods,omitempty"`
-	Cycle            *CycleStats `json:"cycle,omitempty"`
-	RMS              Statistic   `json:"rms"`
-	Last             jnum        `json:"last"`
-	Drift            jnum        `json:"drift"`
-	Resolution       jnum        `json:"resolution"`
-	ExtraTime        jnum        `json:"extra_time"`
-	ExtraCapped      bool        `json:"extra_capped,omitempty"`
-	Files            []string    `json:"files,omitempty"`
-	Overlaps         []Overlap   `json:"overlaps,omitempty"`
-	Notes            []string    `json:"notes,omitempty"`
+	Verdict          Verdict           `json:"verdict"`
+	Message          string            `json:"message,omitempty"`
+	Mean             jnum              `json:"mean"`
+	HalfWidth        jnum              `json:"half_width"`
+	StdError         jnum              `json:"std_error"`
+	Dof              jnum              `json:"dof"`
+	Confidence       jnum              `json:"confidence"`
+	Tolerance        jnum              `json:"tolerance"`
+	Scale            jnum              `json:"scale"`
+	Samples          int               `json:"samples"`
+	TauInt           jnum              `json:"tau_int"`
+	EffectiveSamples jnum              `json:"effective_samples"`
+	CorrelationTime  jnum              `json:"correlation_time"`
+	Method           string            `json:"method,omitempty"`
+	Batches          int               `json:"batches,omitempty"`
+	BatchSize        int               `json:"batch_size,omitempty"`
+	TransientEnd     jnum              `json:"transient_end"`
+	TransientMethod  string            `json:"transient_method,omitempty"`
+	EndTime          jnum              `json:"end_time"`
+	TimeStep         jnum              `json:"time_step"`
+	Resampled        bool              `json:"resampled,omitempty"`
+	Period           jnum              `json:"period"`
+	Periods          int               `json:"periods,omitempty"`
+	Cycle            *CycleStats       `json:"cycle,omitempty"`
+	RMS              Statistic         `json:"rms"`
+	Last             jnum              `json:"last"`
+	Drift            jnum              `json:"drift"`
+	Resolution       jnum              `json:"resolution"`
+	ExtraTime        jnum              `json:"extra_time"`
+	ExtraCapped      bool              `json:"extra_capped,omitempty"`
+	Files            []string          `json:"files,omitempty"`
+	Overlaps         []history.Overlap `json:"overlaps,omitempty"`
+	Notes            []string          `json:"notes,omitempty"`
 }
 
 // MarshalJSON writes the result with null for every number not known.

@@ -3,6 +3,8 @@ package harvest
 import (
 	"math"
 	"testing"
+
+	"github.com/sweep-cfd/sweep/internal/history"
 )
 
 // Ensure that the automatic average of a real solver's shedding history
@@ -13,11 +15,11 @@ import (
 // after the build-up of the shedding, and that the drag's alternating
 // half-cycles are averaged as whole lift cycles.
 func TestRealShedding(t *testing.T) {
-	s, err := ReadSeries("testdata", Quantity{Files: "freefem_cylinder_re100.dat", Value: []Term{{Column: Column{Name: "Cd"}}}})
+	s, err := history.ReadSeries("testdata", history.Quantity{Files: "freefem_cylinder_re100.dat", Value: []history.Term{{Column: history.Column{Name: "Cd"}}}})
 	if err != nil {
 		t.Fatal(err)
 	}
-	l, err := ReadSeries("testdata", Quantity{Files: "freefem_cylinder_re100.dat", Value: []Term{{Column: Column{Name: "Cl"}}}})
+	l, err := history.ReadSeries("testdata", history.Quantity{Files: "freefem_cylinder_re100.dat", Value: []history.Term{{Column: history.Column{Name: "Cl"}}}})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,3 +1,7 @@
+// File: Analyze: the steady check, the choice between periodic and broadband
+// averaging, the Result and its rounding floor (a uniform rounding error
+// of the printed digits, q/√12, common practice).
+
 package harvest
 
 import (
@@ -6,6 +10,9 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/sweep-cfd/sweep/internal/compare"
+	"github.com/sweep-cfd/sweep/internal/estimate"
+	"github.com/sweep-cfd/sweep/internal/history"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -74,11 +81,10 @@ type Options struct {
 const (
 	defaultRel        = 0.01
 	defaultConfidence = 0.95
-	minAveraged       = 100 // samples after the transient
-	minBatches        = 5   // batches for an interval (Student t on 4 dof)
-	maxBatches        = 20  // Schmeiser (1982): 10 to 30 batches
-	batchTau          = 10  // least batch size, in τ_int
-	maxACFLength      = 1 << 16
+	minAveraged       = 100  // samples after the transient
+	minBatches        = 5    // batches for an interval (Student t on 4 dof)
+	maxBatches        = 20   // Schmeiser (1982): 10 to 30 batches
+	batchTau          = 10   // least batch size, in τ_int
 	uniformTol        = 0.01 // relative spread of time steps seen as uniform
 	maxExtraFactor    = 100  // "run longer" estimates beyond this many windows are capped
 )
@@ -203,7 +209,7 @@ type Result struct {
 
 	// Files, Overlaps and Notes come from reading (see Harvest).
 	Files    []string
-	Overlaps []Overlap
+	Overlaps []history.Overlap
 	Notes    []string
 }
 
@@ -227,10 +233,10 @@ func unknown(conf float64) Result {
 // the printed digits, Resolution/√12 (a uniform error): a history printed
 // to six digits that never changes is not known better than its last
 // digit, and no run may weigh infinitely in a fit.
-func (r Result) Estimate() Estimate {
-	e := Estimate{Mean: r.Mean, StdError: r.StdError, Dof: r.Dof}
+func (r Result) Estimate() compare.Estimate {
+	e := compare.Estimate{Mean: r.Mean, StdError: r.StdError, Dof: r.Dof}
 	if r.Method == "bound" {
-		e = Estimate{Mean: r.Mean, StdError: r.HalfWidth / distuv.UnitNormal.Quantile(0.975), Dof: math.Inf(1)}
+		e = compare.Estimate{Mean: r.Mean, StdError: r.HalfWidth / distuv.UnitNormal.Quantile(0.975), Dof: math.Inf(1)}
 	}
 	if q := r.Resolution / math.Sqrt(12); q > e.StdError {
 		e.StdError = q
@@ -262,18 +268,6 @@ func resolution(ys []float64) float64 {
 		}
 	}
 	return q
-}
-
-// tQuantile returns the two-sided Student t quantile for confidence conf.
-func tQuantile(conf, dof float64) float64 {
-	if !(dof > 0) {
-		return math.NaN()
-	}
-	p := 0.5 + conf/2
-	if math.IsInf(dof, 1) || dof > 1e7 {
-		return distuv.UnitNormal.Quantile(p)
-	}
-	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: dof}.Quantile(p)
 }
 
 // Analyze turns a history (t_i, y_i), time non-decreasing, into an average
@@ -387,8 +381,8 @@ func Analyze(t, y []float64, opts Options) Result {
 	if start >= 0 {
 		from = start
 	}
-	p := developedPeriod(ys, from)
-	if cs, periodic := findCycles(ys, from, p); periodic {
+	p := estimate.DevelopedPeriod(ys, from)
+	if cs, periodic := estimate.FindCycles(ys, from, p); periodic {
 		a = analyzeCycles(ys, cs, start, o)
 	} else {
 		a = analyzeBroadband(ys, start, o, p)
@@ -450,26 +444,6 @@ func drift(y []float64) float64 {
 	return sxy / sxx * float64(n-1)
 }
 
-// meanVariance returns the mean and the unbiased variance (n−1), by two
-// passes for accuracy.
-func meanVariance(x []float64) (mean, variance float64) {
-	n := float64(len(x))
-	for _, v := range x {
-		mean += v
-	}
-	mean /= n
-	if len(x) < 2 {
-		return mean, 0
-	}
-	var ss, s float64
-	for _, v := range x {
-		d := v - mean
-		ss += d * d
-		s += d
-	}
-	return mean, (ss - s*s/n) / (n - 1)
-}
-
 // uniformGrid returns y on an even time grid. If the steps are already even
 // within uniformTol of the mean step, y itself is returned; otherwise y is
 // linearly interpolated onto n points from t_0 with the mean step
@@ -517,8 +491,8 @@ func batchTrend(x, y []float64, w float64) (change, sd float64) {
 	if b < 4 {
 		return math.NaN(), math.NaN()
 	}
-	xm, _ := meanVariance(x)
-	ym, _ := meanVariance(y)
+	xm, _ := estimate.MeanVariance(x)
+	ym, _ := estimate.MeanVariance(y)
 	var sxx, sxy float64
 	for j := range y {
 		sxx += (x[j] - xm) * (x[j] - xm)

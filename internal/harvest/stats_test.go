@@ -7,7 +7,8 @@ import (
 	"strings"
 	"testing"
 
-	"gonum.org/v1/gonum/stat"
+	"github.com/sweep-cfd/sweep/internal/estimate"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 func seq(n int) []float64 {
@@ -16,135 +17,6 @@ func seq(n int) []float64 {
 		t[i] = float64(i)
 	}
 	return t
-}
-
-// Ensure that MSER-5 keeps a constant series whole: MSER(d) = 0 for every
-// d, and ties go to the smallest d (the definition in White 1997 /
-// Spratt 1998; the kim-convergence implementation returns 0 too).
-func TestMSER5Constant(t *testing.T) {
-	for _, c := range []float64{0, 1, 0.1, -3.7e5} {
-		y := make([]float64, 1003)
-		for i := range y {
-			y[i] = c
-		}
-		if got := MSER5(y); got != 0 {
-			t.Errorf("constant %v: MSER5 = %d, want 0", c, got)
-		}
-	}
-}
-
-// Ensure that MSER-5 cuts a clean step exactly at its end. Derived by hand
-// from the definition: y = 1 for the first 100 samples and 0 for the next
-// 900 gives batch means Z = 1 for j < 20 and 0 after, so MSER(20) = 0 while
-// MSER(d) > 0 for d < 20 (the remaining batches are not all equal);
-// 20 ≤ k/2 = 100, so d* = 20 and 100 samples go.
-func TestMSER5Step(t *testing.T) {
-	y := make([]float64, 1000)
-	for i := range 100 {
-		y[i] = 1
-	}
-	if got := MSER5(y); got != 100 {
-		t.Errorf("MSER5 = %d, want 100", got)
-	}
-}
-
-// Ensure that the search stops at half the run. For a ramp y_i = i the
-// batch means are Z_j = 5j + 2 and, by hand, MSER(d) = 25((k−d)² − 1) /
-// (12 (k−d)), which falls with d: the minimum is at the limit d = ⌊k/2⌋.
-func TestMSER5HalfRunLimit(t *testing.T) {
-	y := seq(1000) // k = 200
-	d, atLimit := mser(y, 5)
-	if d != 100 || !atLimit {
-		t.Errorf("ramp: d* = %d (at limit %v), want 100 at the limit", d, atLimit)
-	}
-	if got := MSER5(y); got != 500 {
-		t.Errorf("ramp: MSER5 = %d, want 500", got)
-	}
-}
-
-// Ensure that τ_int of AR(1) noise matches the analytic (1+φ)/(1−φ)
-// (textbook result, e.g. Sokal 1997, sec. 3) within 10 % for long series,
-// by Geyer's initial monotone sequence estimator (Geyer 1992). Its
-// relative standard deviation is about √(2(2M+1)/n) for a sum of M lags
-// (Madras and Sokal 1988): below 5 % for these cases at n = 2^20, so 10 %
-// is at least two standard deviations.
-func TestGeyerTimeAR1(t *testing.T) {
-	rng := rand.New(rand.NewPCG(1, 1))
-	n := 1 << 20
-	for _, phi := range []float64{0, 0.5, 0.9, 0.99} {
-		x := ar1(rng, n, phi, 1)
-		tau, lags := GeyerTime(x)
-		want := (1 + phi) / (1 - phi)
-		t.Logf("φ = %v: τ = %.3f (analytic %.3f), %d lags", phi, tau, want, lags)
-		if math.Abs(tau/want-1) > 0.10 {
-			t.Errorf("φ = %v: τ = %.3f, want %.3f ± 10 %%", phi, tau, want)
-		}
-	}
-}
-
-// Ensure that the blocked estimate used for long series agrees with the
-// analytic long-run variance σ²τ = s²(1+φ)/((1−φ)(1−φ²)) of AR(1) noise
-// (textbook, as above), within 10 %.
-func TestLongRunBlocked(t *testing.T) {
-	rng := rand.New(rand.NewPCG(2, 2))
-	phi := 0.9
-	x := ar1(rng, 3*maxACFLength+7, phi, 1) // blocks of 4
-	lrv, tau := longRun(x)
-	want := (1 + phi) / (1 - phi) / (1 - phi*phi)
-	if math.Abs(lrv/want-1) > 0.10 {
-		t.Errorf("long-run variance %.3f, want %.3f ± 10 %%", lrv, want)
-	}
-	if math.Abs(tau/((1+phi)/(1-phi))-1) > 0.10 {
-		t.Errorf("τ = %.3f, want %.3f ± 10 %%", tau, (1+phi)/(1-phi))
-	}
-}
-
-// Ensure that the mean and variance agree with gonum's stat package
-// (two-pass formulas), rel 1e-12.
-func TestMeanVarianceGonum(t *testing.T) {
-	rng := rand.New(rand.NewPCG(3, 3))
-	for _, n := range []int{2, 3, 10, 1000, 100001} {
-		x := make([]float64, n)
-		for i := range x {
-			x[i] = 1e6 + rng.NormFloat64()
-		}
-		m, v := meanVariance(x)
-		gm, gv := stat.MeanVariance(x, nil)
-		if math.Abs(m-gm) > 1e-12*math.Abs(gm) || math.Abs(v-gv) > 1e-12*gv {
-			t.Errorf("n = %d: (%v, %v), gonum (%v, %v)", n, m, v, gm, gv)
-		}
-	}
-}
-
-// Ensure that the cycles of a sinusoid in AR(1) noise are found, with
-// the mean cycle length within 0.05 % of the period (of 137.3 samples),
-// and that 60 series of AR(1) noise alone (φ = 0.9, and φ = 0.98 whose
-// correlation time is 99 samples) are not taken for periodic.
-func TestCycleDetection(t *testing.T) {
-	rng := rand.New(rand.NewPCG(4, 4))
-	const p = 137.3
-	for k := 0; k < 5; k++ {
-		x := ar1(rng, 20000, 0.5, 0.5)
-		ph := rng.Float64() * 2 * math.Pi
-		for i := range x {
-			x[i] += math.Sin(2*math.Pi*float64(i)/p + ph)
-		}
-		cs, periodic := findCycles(x, len(x)/2, developedPeriod(x, len(x)/2))
-		if !periodic {
-			t.Fatalf("sinusoid not found periodic")
-		}
-		l := (cs[len(cs)-1].end - cs[0].start) / float64(len(cs))
-		if math.Abs(l/p-1) > 5e-4 {
-			t.Errorf("mean cycle length %.4f, want %v ± 0.05 %%", l, p)
-		}
-	}
-	for k := 0; k < 60; k++ {
-		phi := []float64{0.9, 0.98}[k%2]
-		x := ar1(rng, 20000, phi, 1)
-		if cs, periodic := findCycles(x, len(x)/2, developedPeriod(x, len(x)/2)); periodic {
-			t.Errorf("AR(1) noise (φ = %v) taken for periodic with %d cycles", phi, len(cs))
-		}
-	}
 }
 
 // Ensure that uneven steps give a time average: on any grid, linear
@@ -164,7 +36,7 @@ func TestUniformGridTimeAverage(t *testing.T) {
 	if !resampled {
 		t.Fatal("uneven steps not resampled")
 	}
-	m, _ := meanVariance(ys)
+	m, _ := estimate.MeanVariance(ys)
 	want := 2 + 3*(tt[0]+tt[len(tt)-1])/2
 	if math.Abs(m-want) > 1e-9*want {
 		t.Errorf("time average %v, want %v", m, want)
@@ -212,7 +84,7 @@ func TestAnalyzeSteady(t *testing.T) {
 func TestAnalyzeNotConvergedNeededTime(t *testing.T) {
 	rng := rand.New(rand.NewPCG(6, 6))
 	n := 20000
-	x := ar1(rng, n, 0.9, 1)
+	x := studytest.AR1(rng, n, 0.9, 1)
 	for i := range x {
 		x[i] += 10
 	}
@@ -224,7 +96,7 @@ func TestAnalyzeNotConvergedNeededTime(t *testing.T) {
 	if !(r.ExtraTime > 0) || r.ExtraCapped {
 		t.Fatalf("extra %v (capped %v)", r.ExtraTime, r.ExtraCapped)
 	}
-	long := ar1(rng, int(r.ExtraTime)+n, 0.9, 1)
+	long := studytest.AR1(rng, int(r.ExtraTime)+n, 0.9, 1)
 	for i := range long {
 		long[i] += 10
 	}
@@ -251,9 +123,9 @@ func TestAnalyzeUnusable(t *testing.T) {
 		{"empty", nil, nil, Options{}, NoData, "no data"},
 		{"one", []float64{0}, []float64{1}, Options{}, TooShort, "spanning no time"},
 		{"nan", seq(500), nan, Options{}, Failed, "non-finite value at sample 301: the run diverged"},
-		{"short", seq(60), ar1(rand.New(rand.NewPCG(7, 7)), 60, 0.5, 1), Options{}, TooShort, "too short to judge: "},
-		{"start", seq(500), ar1(rand.New(rand.NewPCG(8, 8)), 500, 0.5, 1), Options{Start: &late}, TooShort, "after the last sample"},
-		{"correlated", seq(2000), ar1(rand.New(rand.NewPCG(9, 9)), 2000, 0.995, 1), Options{}, TooShort, "correlation times"},
+		{"short", seq(60), studytest.AR1(rand.New(rand.NewPCG(7, 7)), 60, 0.5, 1), Options{}, TooShort, "too short to judge: "},
+		{"start", seq(500), studytest.AR1(rand.New(rand.NewPCG(8, 8)), 500, 0.5, 1), Options{Start: &late}, TooShort, "after the last sample"},
+		{"correlated", seq(2000), studytest.AR1(rand.New(rand.NewPCG(9, 9)), 2000, 0.995, 1), Options{}, TooShort, "correlation times"},
 	}
 	for _, c := range cases {
 		r := Analyze(c.t, c.y, c.opts)
@@ -272,13 +144,13 @@ func TestAnalyzeUnusable(t *testing.T) {
 // Ensure that a fixed start time is honoured.
 func TestAnalyzeFixedStart(t *testing.T) {
 	rng := rand.New(rand.NewPCG(10, 10))
-	x := ar1(rng, 5000, 0.5, 1)
+	x := studytest.AR1(rng, 5000, 0.5, 1)
 	start := 1234.5
 	r := Analyze(seq(5000), x, Options{Start: &start, Abs: 1})
 	if r.TransientEnd != 1235 || r.TransientMethod != "fixed" || r.Samples != 5000-1235 {
 		t.Errorf("transient end %v (%s), samples %d", r.TransientEnd, r.TransientMethod, r.Samples)
 	}
-	m, _ := meanVariance(x[1235:])
+	m, _ := estimate.MeanVariance(x[1235:])
 	if r.Mean != m {
 		t.Errorf("mean %v, want %v", r.Mean, m)
 	}
@@ -287,7 +159,7 @@ func TestAnalyzeFixedStart(t *testing.T) {
 // Ensure that every verdict encodes to JSON with the names scripts read.
 func TestResultJSON(t *testing.T) {
 	rng := rand.New(rand.NewPCG(11, 11))
-	x := ar1(rng, 20000, 0.5, 1)
+	x := studytest.AR1(rng, 20000, 0.5, 1)
 	steady := make([]float64, 1000)
 	for i := range steady {
 		steady[i] = 1
@@ -319,7 +191,7 @@ func TestResultJSON(t *testing.T) {
 func BenchmarkAnalyze(b *testing.B) {
 	rng := rand.New(rand.NewPCG(13, 13))
 	n := 140000
-	x := ar1(rng, n, 0.9, 1)
+	x := studytest.AR1(rng, n, 0.9, 1)
 	for i := range x {
 		x[i] += 1 + 10*math.Exp(-float64(i)/2000)
 	}

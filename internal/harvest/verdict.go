@@ -1,9 +1,15 @@
+// File: The judge: from what an estimator found and the tolerance, the verdict,
+// the interval (Student t) and the further run time a short run needs;
+// a trend beyond the batch scatter at 99.9 % widens the interval.
+
 package harvest
 
 import (
 	"fmt"
 	"math"
 	"strconv"
+
+	"github.com/sweep-cfd/sweep/internal/estimate"
 )
 
 // judge fills a Result from an estimator's analysis and gives the
@@ -60,7 +66,7 @@ func judge(r *Result, a analysis, o Options, dt float64) {
 		return
 	}
 	r.StdError, r.Dof = a.se, a.dof
-	r.HalfWidth = tQuantile(o.Confidence, a.dof) * a.se
+	r.HalfWidth = estimate.TQuantile(o.Confidence, a.dof) * a.se
 	r.Scale = math.Max(math.Abs(r.Mean), a.rms.Value)
 	if math.IsNaN(r.Scale) {
 		r.Scale = math.Abs(r.Mean)
@@ -72,7 +78,7 @@ func judge(r *Result, a analysis, o Options, dt float64) {
 	// scatter) is not covered by a standard error. Half the change over the
 	// window is then the least half-width; a change beyond twice the
 	// tolerance means the average drifts.
-	if !math.IsNaN(a.trend) && math.Abs(a.trend) > tQuantile(0.999, float64(a.batches-2))*a.trendSD {
+	if !math.IsNaN(a.trend) && math.Abs(a.trend) > estimate.TQuantile(0.999, float64(a.batches-2))*a.trendSD {
 		if math.Abs(a.trend) > 2*r.Tolerance {
 			r.Verdict = Drifting
 			r.HalfWidth, r.StdError = math.NaN(), math.NaN()

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/history"
 )
 
 // Quantity is a harvested quantity: where its history lives in a variant
@@ -18,7 +19,7 @@ type Quantity struct {
 	// Direction says which values are better: Lower or Higher for an
 	// objective, None for a quantity that is only reported.
 	Direction Direction
-	Spec      harvest.Quantity
+	Spec      history.Quantity
 	Opts      harvest.Options
 	Line      int
 	// From, for a statistic of another quantity's cycles (declared with
@@ -201,7 +202,7 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 		default:
 			pr.at(key+".better", "quantity %q: better must be \"lower\" or \"higher\" (got %q): it says which values of the quantity are better", rq.Name, rq.Better)
 		}
-		q.Spec = harvest.Quantity{Files: rq.Files, Comment: rq.Comment, Scale: checkScale(pr, key, rq.Name, rq.Scale)}
+		q.Spec = history.Quantity{Files: rq.Files, Comment: rq.Comment, Scale: checkScale(pr, key, rq.Name, rq.Scale)}
 		if rq.Files == "" {
 			pr.at(key, "quantity %q needs files = \"GLOB\": the history files, relative to the variant directory", rq.Name)
 		}
@@ -215,18 +216,18 @@ func checkQuantities(pr *problems, r *Recipe, raws []rawQuantity) {
 			pr.at(key, "quantity %q needs value = a column (\"Cd\" or 3) or a list of columns to sum", rq.Name)
 		case []any:
 			for j, x := range v {
-				var t harvest.Term
+				var t history.Term
 				if err := t.UnmarshalTOML(x); err != nil {
 					pr.at(fmt.Sprintf("%s.value[%d]", key, j), "quantity %q: value %d: %v", rq.Name, j+1, err)
 				}
 				q.Spec.Value = append(q.Spec.Value, t)
 			}
 		default:
-			var t harvest.Term
+			var t history.Term
 			if err := t.UnmarshalTOML(v); err != nil {
 				pr.at(key+".value", "quantity %q: value: %v", rq.Name, err)
 			}
-			q.Spec.Value = []harvest.Term{t}
+			q.Spec.Value = []history.Term{t}
 		}
 		if rq.Files != "" && rq.Value != nil {
 			if err := q.Spec.Validate(); err != nil {
@@ -339,7 +340,7 @@ func derivedQuantities(pr *problems, key string, q Quantity, rq rawQuantity) []Q
 // and a factor of 0 or below would silently drop or flip the value (a sign
 // belongs to the value's terms). A scale with a refused number is left
 // out of the quantity, so that only these messages report it.
-func checkScale(pr *problems, key, name string, raw rawScale) harvest.Scale {
+func checkScale(pr *problems, key, name string, raw rawScale) history.Scale {
 	ok := true
 	for _, f := range []struct {
 		key, what string
@@ -356,7 +357,7 @@ func checkScale(pr *problems, key, name string, raw rawScale) harvest.Scale {
 		}
 	}
 	if !ok {
-		return harvest.Scale{}
+		return history.Scale{}
 	}
 	get := func(p *float64) float64 {
 		if p == nil {
@@ -364,7 +365,7 @@ func checkScale(pr *problems, key, name string, raw rawScale) harvest.Scale {
 		}
 		return *p
 	}
-	return harvest.Scale{Factor: get(raw.Factor), Density: get(raw.Density), Speed: get(raw.Speed), Reference: get(raw.Reference)}
+	return history.Scale{Factor: get(raw.Factor), Density: get(raw.Density), Speed: get(raw.Speed), Reference: get(raw.Reference)}
 }
 
 func checkSettle(pr *problems, r *Recipe, key string, s *Stage, raw *rawSettle) {

@@ -8,6 +8,7 @@ import (
 	"math"
 
 	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/history"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
@@ -79,7 +80,7 @@ func Result(a store.Average) harvest.Result {
 			RMS: harvestStat(c.RMS), Frequency: harvestStat(c.Frequency)}
 	}
 	for _, o := range a.Overlaps {
-		r.Overlaps = append(r.Overlaps, harvest.Overlap(o))
+		r.Overlaps = append(r.Overlaps, history.Overlap(o))
 	}
 	// A steady result's bound is read as a normal error: infinite degrees
 	// of freedom, which the database keeps as null.

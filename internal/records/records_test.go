@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/history"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
 )
@@ -29,7 +30,7 @@ func TestResultRoundTrip(t *testing.T) {
 		Batches: 14, BatchSize: 1, TransientEnd: 4.9, TransientMethod: "cycles", EndTime: 20, TimeStep: 0.005, Period: 0.33,
 		Periods: 14, Cycle: &harvest.CycleStats{Cycles: 14, Max: harvest.Statistic{Value: 3.5, StdError: 0.001, Dof: 13}},
 		RMS: harvest.Statistic{Value: 0.01, StdError: 0.0001, Dof: 13}, Last: 3.45, Drift: 1e-4, Resolution: 1e-6, ExtraTime: nan,
-		Files: []string{"forces.dat"}, Overlaps: []harvest.Overlap{{Earlier: "a", Later: "b", From: 1, To: 2, Samples: 20}}, Notes: []string{"n"}}
+		Files: []string{"forces.dat"}, Overlaps: []history.Overlap{{Earlier: "a", Later: "b", From: 1, To: 2, Samples: 20}}, Notes: []string{"n"}}
 	steady := harvest.Result{Verdict: harvest.Steady, Mean: 4.025, HalfWidth: 1e-5, StdError: 5e-6, Dof: math.Inf(1), Method: "bound",
 		Confidence: 0.95, Tolerance: 0.04, Scale: 4.025, TauInt: nan, EffectiveSamples: nan, CorrelationTime: nan, TransientEnd: 100,
 		EndTime: 400, TimeStep: 1, Period: nan, RMS: harvest.Statistic{Value: nan, StdError: nan, Dof: nan}, Last: 4.025, Drift: 0,

@@ -5,6 +5,7 @@ import (
 	"math"
 	"strings"
 
+	"github.com/sweep-cfd/sweep/internal/compare"
 	"github.com/sweep-cfd/sweep/internal/harvest"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/tradeoff"
@@ -135,7 +136,7 @@ func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string, li
 	for _, l := range limits {
 		rk.Limits = append(rk.Limits, l.Text)
 	}
-	var within, outside []harvest.Candidate
+	var within, outside []compare.Candidate
 	byLabel := map[string]*Variant{}
 	checks := map[string]LimitCheck{}
 	for i := range vs {
@@ -149,7 +150,7 @@ func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string, li
 			rk.Excluded = append(rk.Excluded, Excluded{v.Label, string(res.Verdict) + ": " + res.Message})
 			continue
 		}
-		c := harvest.Candidate{Name: v.Label, Estimate: res.Estimate()}
+		c := compare.Candidate{Name: v.Label, Estimate: res.Estimate()}
 		byLabel[v.Label] = v
 		if len(limits) == 0 {
 			within = append(within, c)
@@ -167,12 +168,12 @@ func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string, li
 			outside = append(outside, c)
 		}
 	}
-	var base *harvest.Estimate
+	var base *compare.Estimate
 	if b, ok := byLabel[baseline]; ok {
 		e := b.Results[quantity].Estimate()
 		base = &e
 	}
-	add := func(ranked []harvest.Ranked, offset int, groups bool) {
+	add := func(ranked []compare.Ranked, offset int, groups bool) {
 		for _, r := range ranked {
 			v := byLabel[r.Name]
 			res := v.Results[quantity]
@@ -182,8 +183,8 @@ func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string, li
 				row.Group, row.TiedWithBest = strings.Join(r.Groups, ""), r.TiedWithBest
 			}
 			if base != nil {
-				d := harvest.Compare(*base, res.Estimate(), Confidence)
-				pct := 100 * harvest.RelativeChange(base.Mean, res.Mean)
+				d := compare.Compare(*base, res.Estimate(), Confidence)
+				pct := 100 * compare.RelativeChange(base.Mean, res.Mean)
 				row.Delta, row.DeltaHalfWidth, row.ChangePercent, row.Significant = &d.Delta, &d.HalfWidth, &pct, &d.Significant
 			}
 			if lc, ok := checks[v.Label]; ok {
@@ -193,8 +194,8 @@ func Rank(vs []Variant, quantity string, lowerIsBetter bool, baseline string, li
 			rk.Rows = append(rk.Rows, row)
 		}
 	}
-	add(harvest.Rank(within, lowerIsBetter, Confidence), 0, true)
-	add(harvest.Rank(outside, lowerIsBetter, Confidence), len(within), false)
+	add(compare.Rank(within, lowerIsBetter, Confidence), 0, true)
+	add(compare.Rank(outside, lowerIsBetter, Confidence), len(within), false)
 	return rk
 }
 

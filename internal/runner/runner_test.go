@@ -10,7 +10,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/history"
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
@@ -327,7 +327,7 @@ continue = "last=$(tail -n 1 h_0.dat | cut -d' ' -f1); i=$((last - 5)); echo '# 
 		t.Errorf("runs = %q, want one continued run and no full one", b)
 	}
 	vdir := plan.Dir(dir, "v001")
-	s, err := harvest.ReadSeries(vdir, r.Quantities[0].Spec)
+	s, err := history.ReadSeries(vdir, r.Quantities[0].Spec)
 	if err != nil {
 		t.Fatal(err)
 	}

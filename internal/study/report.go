@@ -10,6 +10,7 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/fit"
 	"github.com/sweep-cfd/sweep/internal/harvest"
+	"github.com/sweep-cfd/sweep/internal/history"
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/report"
@@ -148,7 +149,7 @@ func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st 
 			}
 			qs := report.QuantitySeries{Name: qq.Name, Unit: qq.Unit, TransientEnd: res.TransientEnd, Mean: res.Mean,
 				HalfWidth: res.HalfWidth, Verdict: string(res.Verdict), Message: res.Message}
-			if ser, err := harvest.ReadSeries(plan.Dir(r.Dir, v.Label), qq.Spec); err == nil {
+			if ser, err := history.ReadSeries(plan.Dir(r.Dir, v.Label), qq.Spec); err == nil {
 				qs.Time, qs.Value = ser.Time, ser.Value
 			} else if res.Verdict != harvest.NoData && res.Verdict != harvest.Failed {
 				qs.Message = joinNote(qs.Message, "the history cannot be drawn: "+err.Error())

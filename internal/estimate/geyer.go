@@ -1,8 +1,12 @@
-package harvest
+// File: Geyer's initial monotone sequence estimate of the integrated
+// autocorrelation time (Geyer 1992), on the autocovariance computed by FFT
+// (Wiener–Khinchin).
+
+package estimate
 
 import "math"
 
-// autocovariance returns γ̂_k for k = 0..maxLag of x with the sample mean
+// Autocovariance returns γ̂_k for k = 0..maxLag of x with the sample mean
 // removed and the biased normalisation
 //
 //	γ̂_k = 1/n Σ_{i=0}^{n−1−k} (x_i − x̄)(x_{i+k} − x̄),
@@ -11,7 +15,7 @@ import "math"
 // normalisation (not 1/(n−k)) keeps the sequence positive definite and
 // does not inflate the estimates at long lags, where few pairs remain.
 // It returns nil for fewer than two samples.
-func autocovariance(x []float64, maxLag int) []float64 {
+func Autocovariance(x []float64, maxLag int) []float64 {
 	n := len(x)
 	if n < 2 {
 		return nil
@@ -66,11 +70,11 @@ func autocovariance(x []float64, maxLag int) []float64 {
 // Reference: C. J. Geyer, "Practical Markov chain Monte Carlo",
 // Statistical Science 7(4) (1992) 473–483, sec. 3.3.
 func GeyerTime(x []float64) (tau float64, lags int) {
-	g := autocovariance(x, len(x)-1)
-	return geyerFromCov(g, len(x))
+	g := Autocovariance(x, len(x)-1)
+	return GeyerFromCov(g, len(x))
 }
 
-func geyerFromCov(g []float64, n int) (tau float64, lags int) {
+func GeyerFromCov(g []float64, n int) (tau float64, lags int) {
 	if len(g) < 2 || !(g[0] > 0) {
 		return 1, 0
 	}

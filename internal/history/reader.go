@@ -1,4 +1,8 @@
-package harvest
+// File: The reader of column histories: streaming, header names, restarts
+// merged by time. No published method; the rules are the program's own
+// and are documented on ReadSeries.
+
+package history
 
 import (
 	"bufio"

@@ -1,4 +1,8 @@
-package harvest
+// File: MSER-5, the marginal standard error rule for the end of the start-up
+// transient (White 1997; batches of five, Spratt 1998; White, Cobb and
+// Spratt 2000).
+
+package estimate
 
 // MSER5 returns the number of leading observations of y to discard as the
 // initial transient, by the MSER-5 rule.
@@ -30,12 +34,12 @@ package harvest
 // heuristics for simulation", Proc. 2000 Winter Simulation Conference,
 // 755–760.
 func MSER5(y []float64) int {
-	d, _ := mser(y, 5)
+	d, _ := MSER(y, 5)
 	return 5 * d
 }
 
-// mser returns d* for batch size m and whether it hit the search limit k/2.
-func mser(y []float64, m int) (d int, atLimit bool) {
+// MSER returns d* for batch size m and whether it hit the search limit k/2.
+func MSER(y []float64, m int) (d int, atLimit bool) {
 	k := len(y) / m
 	if k < 2 {
 		return 0, false

@@ -1,4 +1,10 @@
-package harvest
+// File: The cycles of a periodic history: the dominant period from the peak of
+// a zero-padded periodogram (Schuster 1898), cycles between upward
+// crossings of the mean level with hysteresis, each cycle's extremes
+// refined by a parabola through three samples, and batches of whole
+// cycles.
+
+package estimate
 
 import (
 	"math"
@@ -31,35 +37,37 @@ import (
 const (
 	minHalfCycles = 8   // cycles in the second half for a history to count as periodic
 	maxCycleCV    = 0.2 // largest spread of cycle lengths (std/mean) for a periodic history
-	minCycles     = 8   // cycles after the transient for an interval from cycles
+	MinCycles     = 8   // cycles after the transient for an interval from cycles
 	hysteresis    = 0.5 // in standard deviations of the smoothed signal
 	minSpectralFr = 3.0 // cycles per half below which a spectral peak is not a period
 	minPeakRatio  = 20  // least power of a spectral peak over its band's mean
-	cycleTau      = 5   // least batch size, in integrated autocorrelation times of the cycle means
+	CycleTau      = 5   // least batch size, in integrated autocorrelation times of the cycle means
 )
 
-// cycle is one period of the signal; start and end are fractional sample
-// indices of its bounding upward crossings.
-type cycle struct {
-	start, end         float64
-	mean, max, min, ms float64 // ms: mean square about the cycle's mean
+// Cycle is one period of the signal: Start and End are the fractional
+// sample indices of its bounding upward crossings, Mean its time average,
+// Max and Min its extremes and MS its mean square about its mean.
+type Cycle struct {
+	Start, End         float64
+	Mean, Max, Min, MS float64
 }
 
-func (c cycle) length() float64 { return c.end - c.start }
+// Length returns the cycle's length in samples.
+func (c Cycle) Length() float64 { return c.End - c.Start }
 
-// dominantPeriod returns the period, in samples, of the highest peak of
+// DominantPeriod returns the period, in samples, of the highest peak of
 // the periodogram of x (mean removed, zero-padded to four times its
 // length), among frequencies of at least minSpectralFr cycles over x; 0 if
 // x is too short or flat, or if the peak does not stand out: its power
 // must be at least minPeakRatio times the mean power of the band from half
 // to twice its frequency, outside the peak itself. (For noise the largest
 // of N periodogram ordinates is about ln N times the mean.)
-func dominantPeriod(x []float64) float64 {
+func DominantPeriod(x []float64) float64 {
 	n := len(x)
 	if n < 16 {
 		return 0
 	}
-	mean, _ := meanVariance(x)
+	mean, _ := MeanVariance(x)
 	size := 1
 	for size < 4*n {
 		size <<= 1
@@ -108,14 +116,14 @@ func dominantPeriod(x []float64) float64 {
 	return float64(size) / (float64(best) + d)
 }
 
-// developedPeriod returns the dominant period, in samples, of the last
-// maxACFLength samples of y[from:] (see dominantPeriod), or 0.
-func developedPeriod(y []float64, from int) float64 {
+// DevelopedPeriod returns the dominant period, in samples, of the last
+// MaxACFLength samples of y[from:] (see DominantPeriod), or 0.
+func DevelopedPeriod(y []float64, from int) float64 {
 	half := y[from:]
-	if len(half) > maxACFLength {
-		half = half[len(half)-maxACFLength:]
+	if len(half) > MaxACFLength {
+		half = half[len(half)-MaxACFLength:]
 	}
-	return dominantPeriod(half)
+	return DominantPeriod(half)
 }
 
 // movingAverage returns the centred moving average of x over w samples
@@ -142,18 +150,18 @@ func movingAverage(x []float64, w int) []float64 {
 	return out
 }
 
-// findCycles returns the cycles of y over its whole length (see the
+// FindCycles returns the cycles of y over its whole length (see the
 // comment at the top of the file) and whether y is periodic; the level is
 // taken from y[from:], its developed part.
 //
-// p is the dominant period of the developed part (developedPeriod).
-func findCycles(y []float64, from int, p float64) ([]cycle, bool) {
+// p is the dominant period of the developed part (DevelopedPeriod).
+func FindCycles(y []float64, from int, p float64) ([]Cycle, bool) {
 	n := len(y)
 	if p < 6 {
 		return nil, false // no period, or under 6 samples: too coarse to follow
 	}
 	s := movingAverage(y, max(1, int(p/6))|1)
-	level, v := meanVariance(s[from:])
+	level, v := MeanVariance(s[from:])
 	h := hysteresis * math.Sqrt(v)
 	if !(h > 0) {
 		return nil, false
@@ -177,21 +185,21 @@ func findCycles(y []float64, from int, p float64) ([]cycle, bool) {
 	if len(ups) < 2 {
 		return nil, false
 	}
-	cs := make([]cycle, 0, len(ups)-1)
+	cs := make([]Cycle, 0, len(ups)-1)
 	for k := 1; k < len(ups); k++ {
 		cs = append(cs, cycleStats(y, ups[k-1], ups[k]))
 	}
 	// Periodic when the developed part has enough regular cycles.
 	var lens []float64
 	for _, c := range cs {
-		if c.start >= float64(from) {
-			lens = append(lens, c.length())
+		if c.Start >= float64(from) {
+			lens = append(lens, c.Length())
 		}
 	}
 	if len(lens) < minHalfCycles {
 		return cs, false
 	}
-	m, vl := meanVariance(lens)
+	m, vl := MeanVariance(lens)
 	if math.Sqrt(vl)/m > maxCycleCV {
 		return cs, false
 	}
@@ -199,7 +207,7 @@ func findCycles(y []float64, from int, p float64) ([]cycle, bool) {
 	// per lift cycle, the two halves a little unlike): the true cycle is
 	// the pair.
 	dev := cs[len(cs)-len(lens):]
-	if alternates(cycleSeries(dev, cycle.length)) || alternates(cycleSeries(dev, func(c cycle) float64 { return c.mean })) {
+	if alternates(CycleSeries(dev, Cycle.Length)) || alternates(CycleSeries(dev, func(c Cycle) float64 { return c.Mean })) {
 		cs = pairCycles(cs)
 	}
 	return cs, true
@@ -221,8 +229,8 @@ func alternates(x []float64) bool {
 	if len(even) < 3 || len(odd) < 3 {
 		return false
 	}
-	me, ve := meanVariance(even)
-	mo, vo := meanVariance(odd)
+	me, ve := MeanVariance(even)
+	mo, vo := MeanVariance(odd)
 	d := math.Abs(me - mo)
 	se := math.Sqrt(ve/float64(len(even)) + vo/float64(len(odd)))
 	return d > 4*se && d > 1e-12*math.Max(math.Abs(me), math.Abs(mo))
@@ -230,15 +238,15 @@ func alternates(x []float64) bool {
 
 // pairCycles merges consecutive cycles two by two, from the last one
 // back (an unpaired first cycle is dropped).
-func pairCycles(cs []cycle) []cycle {
-	out := make([]cycle, 0, len(cs)/2)
+func pairCycles(cs []Cycle) []Cycle {
+	out := make([]Cycle, 0, len(cs)/2)
 	for k := len(cs) % 2; k+1 < len(cs); k += 2 {
 		a, b := cs[k], cs[k+1]
-		la, lb := a.length(), b.length()
-		ma := (a.mean*la + b.mean*lb) / (la + lb)
+		la, lb := a.Length(), b.Length()
+		ma := (a.Mean*la + b.Mean*lb) / (la + lb)
 		// Mean squares about the pair's mean, from each half's own.
-		ms := (la*(a.ms+(a.mean-ma)*(a.mean-ma)) + lb*(b.ms+(b.mean-ma)*(b.mean-ma))) / (la + lb)
-		out = append(out, cycle{start: a.start, end: b.end, mean: ma, max: math.Max(a.max, b.max), min: math.Min(a.min, b.min), ms: ms})
+		ms := (la*(a.MS+(a.Mean-ma)*(a.Mean-ma)) + lb*(b.MS+(b.Mean-ma)*(b.Mean-ma))) / (la + lb)
+		out = append(out, Cycle{Start: a.Start, End: b.End, Mean: ma, Max: math.Max(a.Max, b.Max), Min: math.Min(a.Min, b.Min), MS: ms})
 	}
 	return out
 }
@@ -254,8 +262,8 @@ func at(y []float64, f float64) float64 {
 }
 
 // cycleStats measures y over [a, b] (fractional indices).
-func cycleStats(y []float64, a, b float64) cycle {
-	c := cycle{start: a, end: b}
+func cycleStats(y []float64, a, b float64) Cycle {
+	c := Cycle{Start: a, End: b}
 	i0, i1 := int(math.Ceil(a)), int(math.Floor(b))
 	// Trapezoidal integral from a to b through the interior samples.
 	ya, yb := at(y, a), at(y, b)
@@ -266,30 +274,30 @@ func cycleStats(y []float64, a, b float64) cycle {
 		prevT, prevY = float64(i), y[i]
 	}
 	integral += 0.5 * (yb + prevY) * (b - prevT)
-	c.mean = integral / (b - a)
-	c.max, c.min = math.Max(ya, yb), math.Min(ya, yb)
+	c.Mean = integral / (b - a)
+	c.Max, c.Min = math.Max(ya, yb), math.Min(ya, yb)
 	imax, imin := -1, -1
 	var ss float64
 	cnt := 0
 	for i := i0; i <= i1; i++ {
-		if y[i] > c.max {
-			c.max, imax = y[i], i
+		if y[i] > c.Max {
+			c.Max, imax = y[i], i
 		}
-		if y[i] < c.min {
-			c.min, imin = y[i], i
+		if y[i] < c.Min {
+			c.Min, imin = y[i], i
 		}
-		d := y[i] - c.mean
+		d := y[i] - c.Mean
 		ss += d * d
 		cnt++
 	}
 	if imax > 0 && imax < len(y)-1 {
-		c.max = parabolaExtremum(y[imax-1], y[imax], y[imax+1])
+		c.Max = parabolaExtremum(y[imax-1], y[imax], y[imax+1])
 	}
 	if imin > 0 && imin < len(y)-1 {
-		c.min = parabolaExtremum(y[imin-1], y[imin], y[imin+1])
+		c.Min = parabolaExtremum(y[imin-1], y[imin], y[imin+1])
 	}
 	if cnt > 0 {
-		c.ms = ss / float64(cnt)
+		c.MS = ss / float64(cnt)
 	}
 	return c
 }
@@ -308,8 +316,8 @@ func parabolaExtremum(a, b, c float64) float64 {
 	return b - 0.25*(a-c)*d
 }
 
-// cycleSeries returns one statistic of every cycle.
-func cycleSeries(cs []cycle, f func(cycle) float64) []float64 {
+// CycleSeries returns one statistic of every cycle.
+func CycleSeries(cs []Cycle, f func(Cycle) float64) []float64 {
 	out := make([]float64, len(cs))
 	for i, c := range cs {
 		out[i] = f(c)
@@ -317,23 +325,23 @@ func cycleSeries(cs []cycle, f func(cycle) float64) []float64 {
 	return out
 }
 
-// batchOf returns batch j of b batches of g cycles; the last batch also
+// BatchOf returns batch j of b batches of g cycles; the last batch also
 // takes the cycles left over, so every cycle after the cut is used.
-func batchOf(cs []cycle, g, b, j int) []cycle {
+func BatchOf(cs []Cycle, g, b, j int) []Cycle {
 	if j == b-1 {
 		return cs[j*g:]
 	}
 	return cs[j*g : (j+1)*g]
 }
 
-// weightedBatches returns, for b batches of g cycles (see batchOf), each
+// WeightedBatches returns, for b batches of g cycles (see BatchOf), each
 // batch's length-weighted average of f and its length.
-func weightedBatches(cs []cycle, g, b int, f func(cycle) float64) (means, lens []float64) {
+func WeightedBatches(cs []Cycle, g, b int, f func(Cycle) float64) (means, lens []float64) {
 	for j := range b {
 		var s, l float64
-		for _, c := range batchOf(cs, g, b, j) {
-			s += f(c) * c.length()
-			l += c.length()
+		for _, c := range BatchOf(cs, g, b, j) {
+			s += f(c) * c.Length()
+			l += c.Length()
 		}
 		means = append(means, s/l)
 		lens = append(lens, l)
@@ -341,22 +349,22 @@ func weightedBatches(cs []cycle, g, b int, f func(cycle) float64) (means, lens [
 	return means, lens
 }
 
-// cycleBatchPlan picks the batch size (in cycles) and count for K cycles
+// CycleBatchPlan picks the batch size (in cycles) and count for K cycles
 // whose means have an integrated autocorrelation time tauC (in cycles):
-// one cycle per batch for independent cycles, cycleTau more for each unit
+// one cycle per batch for independent cycles, CycleTau more for each unit
 // of tauC above 1, and at most maxBatches batches.
-func cycleBatchPlan(K int, tauC float64) (g, b int) {
-	g = 1 + max(0, int(math.Ceil(cycleTau*(tauC-1))))
+func CycleBatchPlan(K int, tauC float64, maxBatches int) (g, b int) {
+	g = 1 + max(0, int(math.Ceil(CycleTau*(tauC-1))))
 	if K/g > maxBatches {
 		g = (K + maxBatches - 1) / maxBatches
 	}
 	return g, K / g
 }
 
-// meanSE returns the mean of batch values and its standard error,
+// MeanSE returns the mean of batch values and its standard error,
 // SE² = S²/b.
-func meanSE(v []float64) (mean, se float64) {
-	m, s2 := meanVariance(v)
+func MeanSE(v []float64) (mean, se float64) {
+	m, s2 := MeanVariance(v)
 	return m, math.Sqrt(s2 / float64(len(v)))
 }
 

@@ -1,4 +1,9 @@
-package harvest
+// File: Exact parsing of plain decimals without strconv when the mantissa and
+// the power of ten are exact doubles (the fast path of Clinger 1990,
+// "How to read floating point numbers accurately"); other numbers go to
+// strconv.ParseFloat.
+
+package history
 
 import (
 	"errors"

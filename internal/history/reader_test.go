@@ -1,4 +1,4 @@
-package harvest
+package history
 
 import (
 	"bytes"
@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -15,6 +14,7 @@ import (
 	"testing"
 
 	"github.com/BurntSushi/toml"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 func near(a, b []float64, tol float64) bool {
@@ -324,24 +324,6 @@ func FuzzParseHistory(f *testing.F) {
 	})
 }
 
-// writeHistory writes a history of n lines with five columns like a solver
-// force file (time, total, pressure, viscous, lift) and returns its size.
-func writeHistory(tb testing.TB, path string, n int) int64 {
-	tb.Helper()
-	rng := rand.New(rand.NewPCG(1, 2))
-	var b bytes.Buffer
-	b.WriteString("# Time Fx Fx_p Fx_v Fy\n")
-	for i := 0; i < n; i++ {
-		p := 0.9 + 0.05*rng.NormFloat64()
-		v := 0.1 + 0.01*rng.NormFloat64()
-		fmt.Fprintf(&b, "%.6e\t%.8e\t%.8e\t%.8e\t%.8e\n", float64(i)*1e-3, p+v, p, v, 0.3*rng.NormFloat64())
-	}
-	if err := os.WriteFile(path, b.Bytes(), 0o644); err != nil {
-		tb.Fatal(err)
-	}
-	return int64(b.Len())
-}
-
 // BenchmarkReadHistory reads a 10 MB, 140,000-line, five-column history
 // (the size a later issue holds `sweep stats` to) for the time and the
 // second column, the work of awk '{s+=$2} END {print s/NR}', and reports
@@ -357,26 +339,13 @@ func BenchmarkReadHistorySum(b *testing.B) {
 
 func benchmarkRead(b *testing.B, value []Term) {
 	dir := b.TempDir()
-	size := writeHistory(b, filepath.Join(dir, "forces.dat"), 140000)
+	size := studytest.ForceHistory(b, filepath.Join(dir, "forces.dat"), 140000)
 	q := Quantity{Files: "forces.dat", Time: ColumnName("Time"), Value: value}
 	b.SetBytes(size)
 	b.ReportAllocs()
 	for b.Loop() {
 		s, err := ReadSeries(dir, q)
 		if err != nil || len(s.Time) != 140000 {
-			b.Fatal(err)
-		}
-	}
-}
-
-// BenchmarkHarvest reads and analyses the same history.
-func BenchmarkHarvest(b *testing.B) {
-	dir := b.TempDir()
-	size := writeHistory(b, filepath.Join(dir, "forces.dat"), 140000)
-	q := Quantity{Files: "forces.dat", Value: []Term{{Column: ColumnIndex(2)}}}
-	b.SetBytes(size)
-	for b.Loop() {
-		if _, err := Harvest(dir, q, Options{}); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -1,33 +1,19 @@
-package harvest
+// File: Welch's unequal-variance t test with the Welch–Satterthwaite degrees of
+// freedom (Welch 1947; Satterthwaite 1946), and a ranking's compact letter
+// display of the groups it cannot tell apart (Piepho 2004, "An
+// algorithm for a letter-based representation of all-pairwise
+// comparisons", J. Comput. Graph. Stat. 13(2)).
+
+package compare
 
 import (
 	"math"
 	"sort"
 	"strings"
 
+	"github.com/sweep-cfd/sweep/internal/estimate"
 	"gonum.org/v1/gonum/stat/distuv"
 )
-
-// DynamicPressure returns q = ½ ρ U², in Pa for ρ in kg/m^3 and U in m/s.
-func DynamicPressure(rho, u float64) float64 {
-	return 0.5 * rho * u * u
-}
-
-// Coefficient returns the force coefficient
-//
-//	C = F / (½ ρ U² A),
-//
-// with A a reference area for a 3D body, or a reference length for a 2D
-// case whose force is per unit span. It panics unless ρ, U and A are
-// positive and finite.
-func Coefficient(f, rho, u, ref float64) float64 {
-	for _, v := range []float64{rho, u, ref} {
-		if !(v > 0) || math.IsInf(v, 1) {
-			panic("harvest: coefficient needs positive finite density, speed and reference")
-		}
-	}
-	return f / (DynamicPressure(rho, u) * ref)
-}
 
 // RelativeChange returns (x − base)/|base|: −0.043 means a 4.3 %
 // reduction. It returns NaN if base is zero.
@@ -112,7 +98,7 @@ func Compare(a, b Estimate, conf float64) Difference {
 			d.P = 1
 		}
 	} else {
-		q := tQuantile(conf, nu)
+		q := estimate.TQuantile(conf, nu)
 		d.T = d.Delta / d.StdError
 		d.HalfWidth = q * d.StdError
 		d.Significant = math.Abs(d.T) > q

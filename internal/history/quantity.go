@@ -1,4 +1,7 @@
-package harvest
+// File: What a recipe says of a history: files, time and value columns, comment
+// marker, scale. No published method.
+
+package history
 
 import (
 	"encoding/json"

@@ -1,4 +1,7 @@
-package harvest
+// File: Reusable FFT plans (gonum/dsp/fourier) for the spectral estimators; no
+// method of its own.
+
+package estimate
 
 import (
 	"sync"
