@@ -10,6 +10,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // Ensure that harvesting while a run goes on says which variants still
@@ -23,11 +25,11 @@ func TestHarvestWhileRunningAndCycleStatistics(t *testing.T) {
 		t.Skip("runs a study in the background")
 	}
 	dir := filepath.Join(t.TempDir(), "study")
-	writeFile(t, filepath.Join(dir, "template", "gen.awk"), `BEGIN { srand(seed); print "# t Cd Cl"
+	studytest.WriteFile(t, filepath.Join(dir, "template", "gen.awk"), `BEGIN { srand(seed); print "# t Cd Cl"
   for (i = 0; i < 4000; i++) { t = i * 0.05
     printf "%.3f %.6f %.6f\n", t, 1 + 0.1 * a + 0.02 * sin(2 * 3.14159265358979 * t) + 0.001 * (rand() - 0.5), 0.4 * sin(3.14159265358979 * t) } }
 `, 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 [[param]]
 name = "a"

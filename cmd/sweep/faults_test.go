@@ -13,6 +13,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // The fault campaign: each sub-test injects one kind of fault into real
@@ -74,13 +76,7 @@ func ledgerStage(body string) string {
 // given stage tables.
 func (c *campaign) faultStudy(dir string, n int, stages string) string {
 	c.t.Helper()
-	writeFile(c.t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
-	levels := make([]string, n)
-	for i := range levels {
-		levels[i] = strconv.Itoa(i + 1)
-	}
-	writeFile(c.t, filepath.Join(dir, "study.toml"), "[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = ["+
-		strings.Join(levels, ", ")+"]\n[design]\nscheme = \"factorial\"\n"+stages, 0o644)
+	studytest.Write(c.t, dir, studytest.Levels(n, stages), studytest.CaseFiles())
 	if _, errs, code := c.sweep("plan", dir); code != 0 {
 		c.t.Fatalf("plan: %s", errs)
 	}
@@ -441,10 +437,10 @@ func faultFullDisk(t *testing.T) {
 	defer syscall.Unmount(mnt, syscall.MNT_DETACH)
 	dir := filepath.Join(mnt, "render")
 	for i := range 20 {
-		writeFile(t, filepath.Join(dir, "template", fmt.Sprintf("part%02d.dat", i)), strings.Repeat("x", 50_000), 0o644)
+		studytest.WriteFile(t, filepath.Join(dir, "template", fmt.Sprintf("part%02d.dat", i)), strings.Repeat("x", 50_000), 0o644)
 	}
-	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), "[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = [1, 2, 3, 4]\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"solve\"\nrun = \""+
+	studytest.WriteFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), "[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = [1, 2, 3, 4]\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"solve\"\nrun = \""+
 		strings.ReplaceAll(ledgerStage("true"), `"`, `\"`)+"\"\n", 0o644)
 	_, errs, code := c.sweep("plan", dir)
 	if code == 0 || !strings.Contains(errs, "no space left on device") {
@@ -554,11 +550,11 @@ run = "`+strings.ReplaceAll(ledgerStage(`sleep 0.05`), `"`, `\"`)+`"
 	sound, damaged := 0, 0
 	for i := range 20 {
 		cp := filepath.Join(t.TempDir(), fmt.Sprint("copy", i))
-		writeFile(t, filepath.Join(cp, "template", "case.txt"), "k {{.k}}\n", 0o644)
+		studytest.WriteFile(t, filepath.Join(cp, "template", "case.txt"), "k {{.k}}\n", 0o644)
 		b, _ := os.ReadFile(filepath.Join(dir, "study.toml"))
-		writeFile(t, filepath.Join(cp, "study.toml"), string(b), 0o644)
+		studytest.WriteFile(t, filepath.Join(cp, "study.toml"), string(b), 0o644)
 		db, _ := os.ReadFile(filepath.Join(dir, ".sweep", "study.db"))
-		writeFile(t, filepath.Join(cp, ".sweep", "study.db"), string(db), 0o600)
+		studytest.WriteFile(t, filepath.Join(cp, ".sweep", "study.db"), string(db), 0o600)
 		f.injected++
 		switch _, errs, code := c.sweep("status", cp, "--json"); {
 		case code == 0:

@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/sweep-cfd/sweep/internal/fit"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // Ensure that fit --table --json prints the names scripts read, and that
@@ -65,11 +66,11 @@ func TestPlanAdd(t *testing.T) {
 		t.Skip("runs a small study")
 	}
 	dir := t.TempDir()
-	writeFile(t, filepath.Join(dir, "template", "gen.awk"), `BEGIN { srand(seed); print "# t Cd"
+	studytest.WriteFile(t, filepath.Join(dir, "template", "gen.awk"), `BEGIN { srand(seed); print "# t Cd"
   m = 1 + (a - 0.3)^2 + 2 * (b - 0.6)^2
   for (i = 1; i <= 4000; i++) printf "%d %.6f\n", i, m + 0.002 * (rand() - 0.5) }
 `, 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 [[param]]
 name = "a"
@@ -154,11 +155,11 @@ run = "awk -v a=$SWEEP_PARAM_A -v b=$SWEEP_PARAM_B -v seed=${SWEEP_VARIANT_LABEL
 func steadyStudy(t *testing.T) string {
 	t.Helper()
 	dir := t.TempDir()
-	writeFile(t, filepath.Join(dir, "template", "solve.sh"), `#!/bin/sh
+	studytest.WriteFile(t, filepath.Join(dir, "template", "solve.sh"), `#!/bin/sh
 case $SWEEP_PARAM_RE in 10) v=8.4015;; 20) v=5.5657;; 30) v=4.5611;; 40) v=4.0250;; esac
 awk -v v=$v 'BEGIN { print "# it Cd"; for (i = 0; i <= 400; i++) printf "%d %.6g\n", i, v * (1 + 0.3 * exp(-i / 20)) }' > forces.dat
 `, 0o755)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 [[param]]
 name = "re"
@@ -252,8 +253,8 @@ func TestPlanAddLevels(t *testing.T) {
 	}
 
 	dir = t.TempDir()
-	writeFile(t, filepath.Join(dir, "template", "keep"), "", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "template", "keep"), "", 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 [[param]]
 name = "fins"
@@ -324,8 +325,8 @@ func TestTradeoffStudy(t *testing.T) {
 		t.Skip("runs a small study")
 	}
 	dir := t.TempDir()
-	writeFile(t, filepath.Join(dir, "template", "keep"), "", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "template", "keep"), "", 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 [[param]]
 name = "x1"

@@ -13,6 +13,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // sweepBin is the program built once for the tests that run it as users do.
@@ -53,16 +55,6 @@ func sweep(t *testing.T, args ...string) (string, string, int) {
 	return out.String(), errb.String(), code
 }
 
-func writeFile(t *testing.T, path, text string, mode os.FileMode) {
-	t.Helper()
-	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(path, []byte(text), mode); err != nil {
-		t.Fatal(err)
-	}
-}
-
 type statusJSON struct {
 	Counts struct {
 		Done, Failed, Pending, Running int
@@ -99,8 +91,8 @@ func TestKillAndResume(t *testing.T) {
 		t.Skip("crash test skipped under -short")
 	}
 	dir := t.TempDir()
-	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `name = "crash"
+	studytest.WriteFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `name = "crash"
 [case]
 base = "template"
 render = ["case.txt"]
@@ -188,8 +180,8 @@ func TestValuesNeverReachShell(t *testing.T) {
 		b, _ := json.Marshal(p)
 		quoted[i] = string(b)
 	}
-	writeFile(t, filepath.Join(dir, "template", "case.txt"), "value {{.v}}\n", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "template", "case.txt"), "value {{.v}}\n", 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 render = ["case.txt"]
 [[param]]

@@ -18,6 +18,7 @@ import (
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/starter"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 	"github.com/sweep-cfd/sweep/recipes"
 )
 
@@ -30,7 +31,7 @@ func TestLbmStopsOnSIGTERM(t *testing.T) {
 	}
 	tpl, _ := os.ReadFile(filepath.Join(dir, "s", "template", "case.toml"))
 	text := strings.NewReplacer("{{.nose_radius}}", "0.2", "{{.taper_angle}}", "10", "end_time = 200.0", "end_time = 1000.0").Replace(string(tpl))
-	writeFile(t, filepath.Join(dir, "case.toml"), text, 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "case.toml"), text, 0o644)
 	cmd := exec.Command(sweepBin, "lbm", "case.toml")
 	cmd.Dir = dir
 	if err := cmd.Start(); err != nil {
@@ -141,7 +142,7 @@ func TestDemoStudyRuns(t *testing.T) {
 	// Half the run keeps the test short; it is still long enough for the
 	// settle stop to act on the round-nosed variants (which settle by
 	// t = 90 to 95 in the full demo).
-	writeFile(t, casef, strings.Replace(string(b), "end_time = 200.0", "end_time = 100.0", 1), 0o644)
+	studytest.WriteFile(t, casef, strings.Replace(string(b), "end_time = 200.0", "end_time = 100.0", 1), 0o644)
 	if _, errs, code := sweep(t, "plan", dir); code != 0 {
 		t.Fatalf("plan: %s", errs)
 	}
@@ -221,7 +222,7 @@ func TestStatsJSON(t *testing.T) {
 		fmt.Fprintf(&b, "%.2f %.6f 0\r\n", tm, cd)
 	}
 	b.WriteString("400.00 0.8") // cut off mid-write
-	writeFile(t, filepath.Join(dir, "forces.dat"), b.String(), 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "forces.dat"), b.String(), 0o644)
 	out, errs, code := sweep(t, "stats", filepath.Join(dir, "forces.dat"), "--column", "Cd", "--json")
 	if code != 0 {
 		t.Fatalf("stats: %d %s", code, errs)

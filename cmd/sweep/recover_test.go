@@ -4,12 +4,12 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"testing"
 	"time"
 
 	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 func storeHeld(dir string) bool { return store.Held(dir) }
@@ -18,27 +18,13 @@ func storeHeld(dir string) bool { return store.Held(dir) }
 // stages, and returns its directory.
 func smallStudy(t *testing.T, n int) string {
 	t.Helper()
-	dir := filepath.Join(t.TempDir(), "study")
-	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
-	levels := make([]string, n)
-	for i := range levels {
-		levels[i] = strconv.Itoa(i + 1)
-	}
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
-base = "template"
-render = ["case.txt"]
-[[param]]
-name = "k"
-levels = [`+strings.Join(levels, ", ")+`]
-[design]
-scheme = "factorial"
-[[stage]]
+	dir := studytest.Write(t, filepath.Join(t.TempDir(), "study"), studytest.Levels(n, `[[stage]]
 name = "mesh"
 run = "sh -c 'echo mesh > mesh.out'"
 [[stage]]
 name = "solve"
 run = "sh -c 'echo solve >> ../../solve-count'"
-`, 0o644)
+`), studytest.CaseFiles())
 	if _, errs, code := sweep(t, "plan", dir); code != 0 {
 		t.Fatalf("plan: %s", errs)
 	}
@@ -139,8 +125,8 @@ func TestDetachedLocalRun(t *testing.T) {
 		t.Skip("starts background runs")
 	}
 	dir := filepath.Join(t.TempDir(), "study")
-	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 render = ["case.txt"]
 [[param]]
@@ -201,8 +187,8 @@ run = "sh -c 'sleep 0.6; echo $SWEEP_VARIANT_LABEL >> ../../done'"
 // several say which values are better.
 func TestPlanWarnsCoresAndObjective(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "study")
-	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
+	studytest.WriteFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `[case]
 base = "template"
 render = ["case.txt"]
 [[param]]

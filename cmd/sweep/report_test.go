@@ -9,6 +9,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 const hostile = "<script>alert(1)</script>"
@@ -19,11 +21,11 @@ const hostile = "<script>alert(1)</script>"
 func reportStudy(t *testing.T) string {
 	t.Helper()
 	dir := t.TempDir()
-	writeFile(t, filepath.Join(dir, "template", "gen.awk"), `BEGIN { srand(seed); print "# t Cd Cl"
+	studytest.WriteFile(t, filepath.Join(dir, "template", "gen.awk"), `BEGIN { srand(seed); print "# t Cd Cl"
   m = 1 + (a - 0.3)^2 + 2 * (b - 0.6)^2
   for (i = 1; i <= 3000; i++) printf "%d %.6f %.6f\n", i, m + 0.5 * exp(-i / 200) + 0.01 * (rand() - 0.5), 0.1 * sin(i / 10) }
 `, 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `name = "report check"
+	studytest.WriteFile(t, filepath.Join(dir, "study.toml"), `name = "report check"
 [case]
 base = "template"
 [[param]]

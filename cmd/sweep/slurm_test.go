@@ -9,6 +9,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // needSlurm skips a test when no Slurm cluster answers, unless
@@ -30,24 +32,7 @@ func needSlurm(t *testing.T) {
 // slurmStudy writes and plans a study on the Slurm backend.
 func slurmStudy(t *testing.T, n int, stages string) string {
 	t.Helper()
-	dir := t.TempDir()
-	vals := make([]string, n)
-	for i := range vals {
-		vals[i] = string(rune('1' + i))
-	}
-	writeFile(t, filepath.Join(dir, "template", "case.txt"), "k {{.k}}\n", 0o644)
-	writeFile(t, filepath.Join(dir, "study.toml"), `[case]
-base = "template"
-render = ["case.txt"]
-[[param]]
-name = "k"
-levels = [`+strings.Join(vals, ", ")+`]
-[design]
-scheme = "factorial"
-[backend]
-kind = "slurm"
-poll = "1s"
-`+stages, 0o644)
+	dir := studytest.Write(t, "", studytest.Levels(n, "[backend]\nkind = \"slurm\"\npoll = \"1s\"\n"+stages), studytest.CaseFiles())
 	if _, errs, code := sweep(t, "plan", dir); code != 0 {
 		t.Fatalf("plan: %s", errs)
 	}

@@ -10,28 +10,22 @@ import (
 
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // study writes a study directory: a template with a rendered case file, a
 // large unrendered file, a subdirectory and a link, and the recipe text.
 func study(t *testing.T, text string) string {
 	t.Helper()
-	dir := t.TempDir()
+	dir := studytest.Write(t, "", text, map[string]string{"case.txt": "radius {{.r}}\nshape {{.shape}}\n"})
 	tpl := filepath.Join(dir, "template")
 	must(t, os.MkdirAll(filepath.Join(tpl, "mesh"), 0o755))
-	must(t, os.WriteFile(filepath.Join(tpl, "case.txt"), []byte("radius {{.r}}\nshape {{.shape}}\n"), 0o644))
 	must(t, os.WriteFile(filepath.Join(tpl, "mesh", "points.bin"), make([]byte, 1<<20), 0o644))
 	must(t, os.Symlink("mesh/points.bin", filepath.Join(tpl, "points.link")))
-	must(t, os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(text), 0o644))
 	return dir
 }
 
-func must(t *testing.T, err error) {
-	t.Helper()
-	if err != nil {
-		t.Fatal(err)
-	}
-}
+func must(t *testing.T, err error) { t.Helper(); studytest.Must(t, err) }
 
 const recipeText = `[case]
 base = "template"

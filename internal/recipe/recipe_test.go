@@ -7,27 +7,16 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // writeStudy makes a study directory with a template case and the given
 // recipe text, and returns the recipe's path.
 func writeStudy(t *testing.T, text string) string {
 	t.Helper()
-	dir := t.TempDir()
-	if err := os.MkdirAll(filepath.Join(dir, "template"), 0o755); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(dir, "template", "case.txt"), []byte("r {{.r}}\n"), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(dir, "template", "run.sh"), []byte("#!/bin/sh\n"), 0o755); err != nil {
-		t.Fatal(err)
-	}
-	path := filepath.Join(dir, FileName)
-	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	return path
+	dir := studytest.Write(t, "", text, map[string]string{"case.txt": "r {{.r}}\n", "run.sh": "#!/bin/sh\n"})
+	return filepath.Join(dir, FileName)
 }
 
 const good = `name = "demo"

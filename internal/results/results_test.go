@@ -1,12 +1,10 @@
 package results
 
 import (
-	"bufio"
 	"context"
 	"encoding/json"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strings"
@@ -17,6 +15,7 @@ import (
 	"github.com/sweep-cfd/sweep/internal/records"
 	"github.com/sweep-cfd/sweep/internal/runner"
 	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 const studyText = `[case]
@@ -43,30 +42,14 @@ run = "true"
 // it by 1/(½ ρ U² A) = 1/946.729 with ρ = 1.225, U = 27.8, A = 2).
 func history(t *testing.T, path string, mean float64, seed uint64) {
 	t.Helper()
-	f, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	w := bufio.NewWriter(f)
-	fmt.Fprintln(w, "# time Fx Fy")
-	rng := rand.New(rand.NewPCG(seed, 99))
-	q := 0.5 * 1.225 * 27.8 * 27.8 * 2.0
-	x := 0.0
-	for i := range 20000 {
-		x = 0.5*x + 0.05*rng.NormFloat64()
-		fmt.Fprintf(w, "%d %.9g 0\n", i, (mean+x)*q)
-	}
-	w.Flush()
+	studytest.AR1History(t, path, 20000, mean, 0.5, 0.05, 0.5*1.225*27.8*27.8*2.0, seed)
 }
 
 // setup plans a four-variant study, writes histories with known means for
 // three variants, marks them done, and leaves the fourth never run.
 func setup(t *testing.T, means []float64) (*recipe.Recipe, *store.Store) {
 	t.Helper()
-	dir := t.TempDir()
-	os.MkdirAll(filepath.Join(dir, "template"), 0o755)
-	os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(studyText), 0o644)
+	dir := studytest.Write(t, "", studyText, nil)
 	r, err := recipe.Load(filepath.Join(dir, recipe.FileName))
 	if err != nil {
 		t.Fatal(err)

@@ -2,7 +2,6 @@ package runner
 
 import (
 	"context"
-	"os"
 	"os/exec"
 	"path/filepath"
 	"strconv"
@@ -13,6 +12,7 @@ import (
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // BenchmarkDispatch runs 2,000 variants whose only stage is `true` on two
@@ -26,16 +26,11 @@ import (
 // executor starts processes without an extra exec per job.
 func BenchmarkDispatch(b *testing.B) {
 	const n = 2000
-	dir := b.TempDir()
-	os.MkdirAll(filepath.Join(dir, "template"), 0o755)
-	os.WriteFile(filepath.Join(dir, "template", "case.txt"), []byte("k {{.k}}\n"), 0o644)
+	dir := studytest.Write(b, "", studytest.Levels(n, "[[stage]]\nname = \"s\"\nrun = \"true\"\n"), studytest.CaseFiles())
 	vals := make([]string, n)
 	for i := range vals {
 		vals[i] = strconv.Itoa(i + 1)
 	}
-	text := "[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = [" +
-		strings.Join(vals, ", ") + "]\n[design]\nscheme = \"factorial\"\n[[stage]]\nname = \"s\"\nrun = \"true\"\n"
-	os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(text), 0o644)
 	r, err := recipe.Load(filepath.Join(dir, recipe.FileName))
 	if err != nil {
 		b.Fatal(err)

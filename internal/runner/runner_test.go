@@ -5,7 +5,6 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -14,6 +13,7 @@ import (
 	"github.com/sweep-cfd/sweep/internal/plan"
 	"github.com/sweep-cfd/sweep/internal/recipe"
 	"github.com/sweep-cfd/sweep/internal/store"
+	"github.com/sweep-cfd/sweep/internal/studytest"
 )
 
 // The test binary doubles as the executor, as the sweep binary does.
@@ -31,16 +31,7 @@ func TestMain(m *testing.M) {
 // whose stages are the given shell scripts.
 func newStudy(t *testing.T, n int, stages string) (string, *recipe.Recipe) {
 	t.Helper()
-	dir := t.TempDir()
-	must(t, os.MkdirAll(filepath.Join(dir, "template"), 0o755))
-	must(t, os.WriteFile(filepath.Join(dir, "template", "case.txt"), []byte("k {{.k}}\n"), 0o644))
-	vals := make([]string, n)
-	for i := range vals {
-		vals[i] = strconv.Itoa(i + 1)
-	}
-	text := "[case]\nbase = \"template\"\nrender = [\"case.txt\"]\n[[param]]\nname = \"k\"\nlevels = [" +
-		strings.Join(vals, ", ") + "]\n[design]\nscheme = \"factorial\"\n" + stages
-	must(t, os.WriteFile(filepath.Join(dir, recipe.FileName), []byte(text), 0o644))
+	dir := studytest.Write(t, "", studytest.Levels(n, stages), studytest.CaseFiles())
 	r, err := recipe.Load(filepath.Join(dir, recipe.FileName))
 	must(t, err)
 	_, err = plan.Plan(context.Background(), r, plan.Options{})
@@ -48,12 +39,7 @@ func newStudy(t *testing.T, n int, stages string) (string, *recipe.Recipe) {
 	return dir, r
 }
 
-func must(t *testing.T, err error) {
-	t.Helper()
-	if err != nil {
-		t.Fatal(err)
-	}
-}
+func must(t *testing.T, err error) { t.Helper(); studytest.Must(t, err) }
 
 func jobs(t *testing.T, dir string) []store.Job {
 	t.Helper()
