@@ -17,7 +17,9 @@ import (
 type MeshGroup struct {
 	Setup  map[string]any `json:"setup"` // the other parameters' values
 	Labels []string       `json:"labels"`
-	// Values and half-widths of the quantity on each grid, fine to coarse.
+	// Cell sizes, values and half-widths of the quantity on each grid,
+	// fine to coarse (the analysis uses the finest three).
+	H          []float64  `json:"h"`
 	Means      []float64  `json:"means"`
 	HalfWidths []float64  `json:"half_widths"`
 	Result     gci.Result `json:"gci"`
@@ -78,6 +80,7 @@ func MeshStudy(r *recipe.Recipe, vs []Variant, quantity string) ([]MeshGroup, er
 		var grids []gci.Grid
 		for _, x := range rs {
 			g.Labels = append(g.Labels, x.label)
+			g.H = append(g.H, x.h)
 			g.Means = append(g.Means, x.res.Mean)
 			g.HalfWidths = append(g.HalfWidths, x.res.HalfWidth)
 			grids = append(grids, gci.Grid{H: x.h, Value: x.res.Mean})

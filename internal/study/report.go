@@ -166,12 +166,9 @@ func buildReport(r *recipe.Recipe, q *recipe.Quantity, vs []results.Variant, st 
 			}
 			ms := report.MeshStudy{Title: "grid convergence of " + q.Name, Extrapolated: g.Result.Extrap, GCI: g.Result.GCIFine,
 				Order: g.Result.Order, Convergence: g.Result.Convergence, Warnings: append(g.Result.Warnings, g.Notes...)}
-			for i := range g.Means {
-				if i < 3 {
-					ms.H = append(ms.H, g.Result.Grids[i].H)
-					ms.Value = append(ms.Value, g.Means[i])
-					ms.HalfWidth = append(ms.HalfWidth, g.HalfWidths[i])
-				}
+			ms.H, ms.Value, ms.HalfWidth = g.H, g.Means, g.HalfWidths
+			if len(g.H) > 3 {
+				ms.Warnings = append(ms.Warnings, fmt.Sprintf("%d grids: the estimate uses the finest three", len(g.H)))
 			}
 			s.Mesh = append(s.Mesh, ms)
 		}
