@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"os/signal"
+	"runtime/pprof"
 	"syscall"
 
 	"github.com/sweep-cfd/sweep/internal/runner"
@@ -15,8 +16,11 @@ import (
 )
 
 func main() {
+	stopProfile := profile()
 	if runner.IsExecutor() {
-		os.Exit(runner.ExecutorMain())
+		code := runner.ExecutorMain()
+		stopProfile()
+		os.Exit(code)
 	}
 	// SIGHUP (a closed terminal) is not an interruption: `sweep run` goes
 	// on with its output in the study's log (see cmd_run.go); other
@@ -30,7 +34,36 @@ func main() {
 	}
 	code := exitCode(ctx, err)
 	stop()
+	stopProfile()
 	os.Exit(code)
+}
+
+// profile writes a CPU profile of this process to $SWEEP_CPUPROFILE (the
+// executor's to that name with ".executor" added), for contributors
+// measuring where a command's time goes (see DEVELOPERS.md). It returns
+// the function that ends it.
+func profile() func() {
+	path := os.Getenv("SWEEP_CPUPROFILE")
+	if path == "" {
+		return func() {}
+	}
+	if runner.IsExecutor() {
+		path += ".executor"
+	}
+	f, err := os.Create(path)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "sweep: profile:", err)
+		return func() {}
+	}
+	if err := pprof.StartCPUProfile(f); err != nil {
+		fmt.Fprintln(os.Stderr, "sweep: profile:", err)
+		f.Close()
+		return func() {}
+	}
+	return func() {
+		pprof.StopCPUProfile()
+		f.Close()
+	}
 }
 
 // Exit statuses, listed in the root command's help.

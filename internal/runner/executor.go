@@ -358,7 +358,8 @@ func (x *executor) wait(p *proc, logf *os.File) {
 
 // leftovers returns the PIDs of processes carrying the token that are
 // children of the executor (re-parented descendants). Reading the child
-// lists is cheap; scanning all of /proc is kept for stops.
+// lists is cheap; scanning all of /proc is kept for stops. (An orphan goes
+// to the thread that started its parent, so every thread's list is read.)
 func (x *executor) leftovers(token string) []int {
 	var pids []int
 	for _, pid := range reapChildren() {

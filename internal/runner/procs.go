@@ -154,9 +154,11 @@ var tracked func(pid int) bool
 // have ended and that nothing else waits for: descendants of stages that
 // were re-parented to the executor. It returns the PIDs of such children
 // still alive.
-func reapChildren() []int {
+func reapChildren() []int { return reap(childPIDs()) }
+
+func reap(pids []int) []int {
 	var alive []int
-	for _, pid := range childPIDs() {
+	for _, pid := range pids {
 		if tracked != nil && tracked(pid) {
 			continue
 		}
@@ -179,14 +181,21 @@ func childPIDs() []int {
 	}
 	var pids []int
 	for _, t := range tasks {
-		b, err := os.ReadFile(filepath.Join("/proc/self/task", t.Name(), "children"))
-		if err != nil {
-			continue
-		}
-		for _, f := range strings.Fields(string(b)) {
-			if pid, err := strconv.Atoi(f); err == nil {
-				pids = append(pids, pid)
-			}
+		pids = append(pids, threadChildren(t.Name())...)
+	}
+	return pids
+}
+
+// threadChildren lists the children of one thread of this process.
+func threadChildren(tid string) []int {
+	b, err := os.ReadFile(filepath.Join("/proc/self/task", tid, "children"))
+	if err != nil {
+		return nil
+	}
+	var pids []int
+	for _, f := range strings.Fields(string(b)) {
+		if pid, err := strconv.Atoi(f); err == nil {
+			pids = append(pids, pid)
 		}
 	}
 	return pids

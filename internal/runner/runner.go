@@ -59,7 +59,7 @@ func Run(ctx context.Context, r *recipe.Recipe, opts Options) (*Snapshot, error)
 			return nil, fmt.Errorf("%s:%d: stage %q needs %d cores but the run may use %d; raise --cores or lower the stage's cores", filepath.Base(r.File), s.Line, s.Name, s.Cores, opts.Cores)
 		}
 	}
-	st, err := store.OpenExisting(r.Dir, store.Options{Brief: true})
+	st, err := store.OpenExisting(r.Dir, store.Options{Brief: true, Linger: true})
 	if err != nil {
 		return nil, err
 	}
@@ -158,7 +158,7 @@ func (d *dispatcher) adopt(jobs []store.Job) {
 }
 
 func (d *dispatcher) loop(ctx context.Context) error {
-	var dirty []*store.Job
+	var dirty, lazy []*store.Job
 	var acks []string
 	stopping := false
 	cancelled := ctx.Done()
@@ -188,10 +188,10 @@ func (d *dispatcher) loop(ctx context.Context) error {
 			}
 		}
 		if len(dirty) > 0 {
-			if err := d.commit(dirty); err != nil {
+			if err := d.commit(append(dirty, lazy...)); err != nil {
 				return d.abort(err)
 			}
-			dirty = dirty[:0]
+			dirty, lazy = dirty[:0], lazy[:0]
 			if time.Since(d.lastBackup) > backupEvery {
 				d.backup()
 			}
@@ -267,8 +267,12 @@ func (d *dispatcher) loop(ctx context.Context) error {
 			}
 			switch ev.Ev {
 			case "started":
+				// The process id rides along with the next commit: a
+				// job committed as running before it started already
+				// tells a later run to ask the executor about it, so
+				// the id needs no commit of its own.
 				a.job.PID = ev.PID
-				dirty = append(dirty, a.job)
+				lazy = append(lazy, a.job)
 			case "exit":
 				delete(d.running, ev.Token)
 				d.free += a.stage.Cores

@@ -326,3 +326,38 @@ continue = "last=$(tail -n 1 h_0.dat | cut -d' ' -f1); i=$((last - 5)); echo '# 
 		}
 	}
 }
+
+// Ensure that processes a stage leaves behind when its leader ends are
+// stopped, both those in its process group and one that left it with
+// setsid (re-parented to the executor), and that the log says so: the
+// stage's core is free again when its leader ends.
+func TestRunStopsLeftovers(t *testing.T) {
+	dir, r := newStudy(t, 1, `
+[[stage]]
+name = "solve"
+run = "sh -c 'sleep 31 & setsid sleep 32 & echo $! > ../../escaped; sleep 0.3; exit 0'"
+`)
+	snap, err := Run(context.Background(), r, Options{Cores: 1})
+	must(t, err)
+	if snap.Done != 1 {
+		t.Fatalf("snapshot %+v", snap)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "escaped"))
+	must(t, err)
+	pid := strings.TrimSpace(string(b))
+	deadline := time.Now().Add(3 * time.Second)
+	for {
+		st, err := os.ReadFile("/proc/" + pid + "/stat")
+		if err != nil || strings.Contains(string(st), ") Z ") {
+			break // gone, or a zombie waiting for its reaper
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("the escaped process %s still runs after its stage ended: %s", pid, st)
+		}
+		time.Sleep(50 * time.Millisecond)
+	}
+	log, _ := os.ReadFile(filepath.Join(dir, "variants", "v001", "solve.log"))
+	if !strings.Contains(string(log), "process(es) the stage left running") {
+		t.Errorf("log does not say the escaped process was stopped:\n%s", log)
+	}
+}

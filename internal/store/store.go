@@ -7,6 +7,8 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"sync"
+	"syscall"
 	"time"
 
 	bolt "go.etcd.io/bbolt"
@@ -33,16 +35,33 @@ type Options struct {
 	// after, so other processes can read between transactions. Each open
 	// costs well under a millisecond. Default false: the file stays open.
 	Brief bool
+	// Linger, with Brief, keeps the file open after a transaction for up
+	// to LingerFor, as long as no other process waits for it: a run that
+	// commits many times a second then pays for one open, not one per
+	// commit. A process opening the file briefly says that it waits by a
+	// shared lock on .sweep/waiting, which the lingering holder sees
+	// after its transaction; an idle holder closes the file when LingerFor
+	// has passed.
+	Linger bool
 	// Timeout is how long to wait for another process's transaction to
 	// finish before giving up. Default 10 s.
 	Timeout time.Duration
 }
+
+// LingerFor is how long a lingering store keeps the file open after its
+// last transaction.
+const LingerFor = 25 * time.Millisecond
 
 // Store is a study database.
 type Store struct {
 	path string
 	opts Options
 	db   *bolt.DB
+	// mu guards the lingering file (linger) and its timer.
+	mu      sync.Mutex
+	linger  *bolt.DB
+	timer   *time.Timer
+	waiting *os.File // .sweep/waiting, for a lingering store
 	// Migrated is the format the database was migrated from when it was
 	// opened (0 when it was already current); the copy made before is at
 	// MigrationBackupPath.
@@ -120,6 +139,11 @@ func (s *Store) open() (*bolt.DB, error) {
 	if err := checkFile(s.path); err != nil {
 		return nil, err
 	}
+	if !s.opts.Linger {
+		// Say that this process waits, so that a lingering holder
+		// lets go of the file.
+		defer s.announce()()
+	}
 	var db *bolt.DB
 	err := guard(s.path, func() error {
 		var err error
@@ -146,12 +170,68 @@ func (s *Store) StudyDir() string { return filepath.Dir(filepath.Dir(s.path)) }
 
 // Close closes the database.
 func (s *Store) Close() error {
+	s.mu.Lock()
+	s.dropLocked()
+	if s.waiting != nil {
+		s.waiting.Close()
+		s.waiting = nil
+	}
+	s.mu.Unlock()
 	if s.db == nil {
 		return nil
 	}
 	err := s.db.Close()
 	s.db = nil
 	return err
+}
+
+// dropLocked closes the lingering file. Called with s.mu held.
+func (s *Store) dropLocked() {
+	if s.timer != nil {
+		s.timer.Stop()
+		s.timer = nil
+	}
+	if s.linger != nil {
+		s.linger.Close()
+		s.linger = nil
+	}
+}
+
+// waitingPath is the file by whose shared lock a process says that it
+// waits for the database.
+func (s *Store) waitingPath() string { return filepath.Join(filepath.Dir(s.path), "waiting") }
+
+// othersWait reports whether another process holds a shared lock on
+// .sweep/waiting: it waits to open the database.
+func (s *Store) othersWait() bool {
+	if s.waiting == nil {
+		f, err := os.OpenFile(s.waitingPath(), os.O_RDWR|os.O_CREATE, 0o600)
+		if err != nil {
+			return true // cannot tell: do not keep others out
+		}
+		s.waiting = f
+	}
+	fd := int(s.waiting.Fd())
+	if err := syscall.Flock(fd, syscall.LOCK_EX|syscall.LOCK_NB); err != nil {
+		return true
+	}
+	syscall.Flock(fd, syscall.LOCK_UN)
+	return false
+}
+
+// announce takes a shared lock on .sweep/waiting while this process
+// opens the file, so that a lingering holder lets go of it; the returned
+// function releases it.
+func (s *Store) announce() func() {
+	f, err := os.OpenFile(s.waitingPath(), os.O_RDWR|os.O_CREATE, 0o600)
+	if err != nil {
+		return func() {}
+	}
+	if err := syscall.Flock(int(f.Fd()), syscall.LOCK_SH); err != nil {
+		f.Close()
+		return func() {}
+	}
+	return func() { f.Close() }
 }
 
 // Update runs fn in a read-write transaction and commits it (fsynced)
@@ -173,6 +253,9 @@ func (s *Store) with(fn func(*bolt.DB) error) error {
 	if s.db != nil {
 		return guard(s.path, func() error { return fn(s.db) })
 	}
+	if s.opts.Linger {
+		return s.withLinger(fn)
+	}
 	db, err := s.open()
 	if err != nil {
 		return err
@@ -182,6 +265,41 @@ func (s *Store) with(fn func(*bolt.DB) error) error {
 		err = cerr
 	}
 	return err
+}
+
+// withLinger runs fn on the lingering file, opening it if needed, and
+// keeps it open afterwards unless another process waits for it.
+func (s *Store) withLinger(fn func(*bolt.DB) error) error {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.timer != nil {
+		s.timer.Stop()
+		s.timer = nil
+	}
+	db := s.linger
+	if db == nil {
+		var err error
+		if db, err = s.open(); err != nil {
+			return err
+		}
+	}
+	s.linger = nil
+	err := guard(s.path, func() error { return fn(db) })
+	if err != nil || s.othersWait() {
+		if cerr := db.Close(); err == nil {
+			err = cerr
+		}
+		return err
+	}
+	s.linger = db
+	s.timer = time.AfterFunc(LingerFor, func() {
+		s.mu.Lock()
+		defer s.mu.Unlock()
+		if s.linger == db {
+			s.dropLocked()
+		}
+	})
+	return nil
 }
 
 // BackupPath returns where a study's database copy is kept.

@@ -6,6 +6,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 )
 
 // Ensure that a second writer is refused at once, told who holds the
@@ -91,5 +92,58 @@ func TestRoundTrip(t *testing.T) {
 	}
 	if got := strings.Join(order, " "); got != "id1 id2 id3 1s0 1s1 2s0 2s1 3s0 3s1" {
 		t.Errorf("order %q", got)
+	}
+}
+
+// Ensure that a lingering store committing without pause does not keep
+// another process's brief open waiting until its timeout: the waiter
+// announces itself and the holder lets go after its next transaction.
+func TestLingerLetsOthersIn(t *testing.T) {
+	dir := t.TempDir()
+	busy, err := Open(dir, Options{Brief: true, Linger: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer busy.Close()
+	done := make(chan struct{})
+	stopped := make(chan struct{})
+	going := make(chan struct{})
+	go func() {
+		defer close(stopped)
+		for i := 0; ; i++ {
+			if i == 10 {
+				close(going)
+			}
+			select {
+			case <-done:
+				return
+			default:
+			}
+			if err := busy.Update(func(tx *Tx) error {
+				return tx.PutJob(Job{Variant: 1, Index: 0, Stage: "s", State: Pending, Attempts: i})
+			}); err != nil {
+				t.Error(err)
+				return
+			}
+		}
+	}()
+	select {
+	case <-going:
+	case <-stopped:
+		t.FailNow()
+	}
+	// Without the announcement the holder keeps the file for as long as
+	// it commits, and this open would fail after its timeout.
+	other, err := Open(dir, Options{Brief: true, Timeout: 3 * time.Second})
+	if err == nil {
+		err = other.View(func(tx *Tx) error {
+			_, _, err := tx.Job(1, 0)
+			return err
+		})
+	}
+	close(done)
+	<-stopped
+	if err != nil {
+		t.Fatalf("brief open beside a lingering store: %v", err)
 	}
 }
