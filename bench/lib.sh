@@ -13,11 +13,16 @@ smoke=${BENCH_SMOKE:-0}
 # now prints the time in seconds.
 now() { date +%s.%N; }
 
-# seconds CMD...: runs CMD, prints its wall time in seconds.
+# seconds CMD...: runs CMD, prints its wall time in seconds; a command
+# that fails stops the benchmark with its error output.
 seconds() {
 	local t0 t1
 	t0=$(now)
-	"$@" >/dev/null 2>&1
+	if ! "$@" >/dev/null 2>"$work/err"; then
+		echo "bench: failed: $*" >&2
+		tail -5 "$work/err" >&2
+		exit 1
+	fi
 	t1=$(now)
 	python3 -c "print(f'{$t1 - $t0:.4f}')"
 }
@@ -38,4 +43,10 @@ ok = r <= target if sense == 'lower' else r >= target
 verdict = '' if smoke == '1' else ('  meets' if ok else '  MISSES') + f' the target ({"at most" if sense == "lower" else "at least"} {target:g})'
 print(f'{name} ratio={r:.2f} ({a:.3f} s vs {b:.3f} s){verdict}')
 PY
+}
+
+# floor WHAT PART WHOLE: prints the share of WHOLE seconds that PART is,
+# for naming the floor of a time that misses its target.
+floor() {
+	python3 -c "import sys; p, w = float(sys.argv[2]), float(sys.argv[3]); print(f'  of which {sys.argv[1]}: {p:.3f} s ({100 * p / w:.0f} %)')" "$1" "$2" "$3"
 }

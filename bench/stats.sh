@@ -1,25 +1,26 @@
 #!/usr/bin/env bash
-# Times `sweep stats` on a 10 MB history (140,000 lines of 5 columns)
-# against awk merely averaging one column of the same file, in the same
-# run, and prints the ratio (target: at most 1).
+# Stats: `sweep stats FILE --column 2 --json` on a 10 MB five-column
+# history (time and four force coefficients, a shedding signal with
+# correlated noise), against mawk merely averaging the same column;
+# interleaved, the median of REPEATS runs each (target: at most 1.0).
+# Also prints the share of the time that is starting the program (sweep
+# --version on the same machine) and reading the column.
 #
 # Usage: bench/stats.sh [REPEATS]
-#
-# Measured 2026-12 on the 2-core development machine: 8.2 MB file, sweep
-# stats 64 ms, awk 33 ms, ratio 1.9: NOT yet within the target. Of the
-# 64 ms, starting the program takes about 19 ms, reading the column about
-# 12 ms (BenchmarkReadHistory) and the analysis 12 to 28 ms.
-set -euo pipefail
-here=$(cd "$(dirname "$0")/.." && pwd)
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-(cd "$here" && go build -o "$work/sweep" ./cmd/sweep)
-awk 'BEGIN { srand(1); print "# time Cd Cl Cs Cm"; x = 0
-  for (i = 1; i <= 140000; i++) { x = 0.9 * x + rand() - 0.5
-    printf "%.5f %.9f %.9f %.9f %.9f\n", i * 0.001, 0.8 + 0.05 * sin(i * 0.01) + 0.01 * x, 0.1 * x, 0.01 * x, 0.001 * x } }' > "$work/h.dat"
-n=${1:-10}
-t0=$(date +%s.%N); for _ in $(seq "$n"); do "$work/sweep" stats "$work/h.dat" --column Cd >/dev/null || true; done; t1=$(date +%s.%N)
-for _ in $(seq "$n"); do awk '!/^#/ { s += $2; n++ } END { print s / n }' "$work/h.dat" >/dev/null; done; t2=$(date +%s.%N)
-python3 -c "
-ours=($t1-$t0)/$n; theirs=($t2-$t1)/$n
-print(f'file: {__import__(\"os\").path.getsize(\"$work/h.dat\")/1e6:.1f} MB; sweep stats {ours*1000:.1f} ms, awk mean {theirs*1000:.1f} ms, ratio {ours/theirs:.2f}')"
+source "$(dirname "$0")/lib.sh"
+reps=${1:-11}
+lines=200000
+if [ "$smoke" = 1 ]; then reps=1 lines=2000; fi
+awk_=$(command -v mawk || command -v awk)
+"$awk_" -v n="$lines" 'BEGIN { srand(1); print "# time Cd Cl Cs Cm"; x = 0
+  for (i = 1; i <= n; i++) { x = 0.9 * x + rand() - 0.5
+    printf "%.5f %.9f %.9f %.9f %.9f\n", i * 0.001, 0.8 + 0.05 * sin(i * 0.1) + 0.01 * x, 0.3 * sin(i * 0.05) + 0.1 * x, 0.01 * x, 0.001 * x } }' >"$work/h.dat"
+ours=() theirs=() start=()
+for _ in $(seq "$reps"); do
+	ours+=("$(seconds "$sweep" stats "$work/h.dat" --column 2 --json)")
+	theirs+=("$(seconds "$awk_" '!/^#/ { s += $2; n++ } END { print s / n }' "$work/h.dat")")
+	start+=("$(seconds "$sweep" --version)")
+done
+size=$(du -m --apparent-size "$work/h.dat" | cut -f1)
+report "stats(${size} MB history)" "$(median "${ours[@]}")" "$(median "${theirs[@]}")" 1.0
+floor "starting the program" "$(median "${start[@]}")" "$(median "${ours[@]}")"

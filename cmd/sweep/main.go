@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"os/signal"
+	"runtime"
 	"runtime/pprof"
 	"syscall"
 
@@ -38,14 +39,16 @@ func main() {
 	os.Exit(code)
 }
 
-// profile writes a CPU profile of this process to $SWEEP_CPUPROFILE (the
-// executor's to that name with ".executor" added), for contributors
-// measuring where a command's time goes (see DEVELOPERS.md). It returns
-// the function that ends it.
+// profile writes a CPU profile of this process to $SWEEP_CPUPROFILE and
+// a profile of every allocation to $SWEEP_MEMPROFILE (the executor's to
+// those names with ".executor" added), for contributors measuring where a
+// command's time and memory go (see DEVELOPERS.md). It returns the
+// function that ends them.
 func profile() func() {
+	stopMem := memProfile()
 	path := os.Getenv("SWEEP_CPUPROFILE")
 	if path == "" {
-		return func() {}
+		return stopMem
 	}
 	if runner.IsExecutor() {
 		path += ".executor"
@@ -63,6 +66,32 @@ func profile() func() {
 	return func() {
 		pprof.StopCPUProfile()
 		f.Close()
+		stopMem()
+	}
+}
+
+// memProfile starts recording every allocation when $SWEEP_MEMPROFILE
+// is set and returns the function that writes the profile.
+func memProfile() func() {
+	path := os.Getenv("SWEEP_MEMPROFILE")
+	if path == "" {
+		return func() {}
+	}
+	if runner.IsExecutor() {
+		path += ".executor"
+	}
+	runtime.MemProfileRate = 1
+	return func() {
+		f, err := os.Create(path)
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "sweep: profile:", err)
+			return
+		}
+		defer f.Close()
+		runtime.GC() // the profile holds what the last collection saw
+		if err := pprof.Lookup("allocs").WriteTo(f, 0); err != nil {
+			fmt.Fprintln(os.Stderr, "sweep: profile:", err)
+		}
 	}
 }
 

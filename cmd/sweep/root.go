@@ -3,6 +3,7 @@ package main
 import (
 	"errors"
 	"path/filepath"
+	"runtime/debug"
 
 	"github.com/spf13/cobra"
 
@@ -30,7 +31,9 @@ Exit status:
   130  interrupted (Ctrl-C or SIGTERM); running jobs were re-queued`,
 		SilenceUsage:  true,
 		SilenceErrors: true,
+		Version:       version(),
 	}
+	root.SetVersionTemplate("sweep {{.Version}}\n")
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError{err} })
 	root.AddCommand(newDemoCmd(), newNewCmd(), newPlanCmd(), newRunCmd(), newStatusCmd(), newResetCmd(),
 		newHarvestCmd(), newRankCmd(), newStatsCmd(), newFitCmd(), newGCICmd(), newReportCmd(), newCancelCmd(), newRecoverCmd(), newLbmCmd())
@@ -59,4 +62,29 @@ var maxOneDir = func(cmd *cobra.Command, args []string) error {
 		return usageError{errors.New("give at most one study directory")}
 	}
 	return nil
+}
+
+// version returns the module version of this build and, when it was
+// built from a checkout, the commit and whether it had changes.
+func version() string {
+	info, ok := debug.ReadBuildInfo()
+	if !ok {
+		return "(unknown build)"
+	}
+	v := info.Main.Version
+	var rev, modified string
+	for _, s := range info.Settings {
+		switch s.Key {
+		case "vcs.revision":
+			rev = s.Value
+		case "vcs.modified":
+			if s.Value == "true" {
+				modified = ", with uncommitted changes"
+			}
+		}
+	}
+	if rev != "" {
+		v += " (commit " + rev[:min(12, len(rev))] + modified + ")"
+	}
+	return v + " " + info.GoVersion
 }
